@@ -1,0 +1,42 @@
+// Thin Node file I/O over codec.ts: read a file and decode it, encode and write by the output extension.
+// The only module in src/images that imports fs; it holds no format knowledge beyond the extension table.
+
+import { promises as fs } from 'node:fs';
+import * as path from 'node:path';
+import { EncodeOptions, decodeImage, encodeImage, formatFromExtension } from './codec';
+import { DecodeOptions, DecodedImage, GreyImage, ImageError } from './types';
+
+/** Reads and decodes an image file; the format comes from the file's magic bytes, not its name. */
+export async function readImageFile(filePath: string, opts: DecodeOptions = {}): Promise<DecodedImage> {
+  // A whole-file read is fine: maxPixels bounds the decoded size, and the compressed file is smaller than that in practice.
+  const buf = await fs.readFile(filePath);
+  const bytes = new Uint8Array(buf.buffer, buf.byteOffset, buf.byteLength);
+  try {
+    return decodeImage(bytes, opts);
+  } catch (e) {
+    if (e instanceof ImageError) throw new ImageError(e.code, `${filePath}: ${e.message}`);
+    throw e;
+  }
+}
+
+/**
+ * Encodes one grey channel in the format given by the extension (.png, .pgm, .pfm, .tif, .tiff) and writes it.
+ * The bytes go to a temporary file in the same folder, which is then renamed over the target,
+ * so an existing file is replaced only when the whole write succeeded.
+ */
+export async function writeImageFile(filePath: string, image: GreyImage, opts: EncodeOptions = {}): Promise<void> {
+  const format = formatFromExtension(filePath);
+  if (format === null) {
+    throw new ImageError('bad-option', `${filePath}: cannot tell the output format; use .png, .pgm, .pfm, .tif or .tiff`);
+  }
+  const bytes = encodeImage(image, format, opts);
+  const dir = path.dirname(filePath);
+  const tmp = path.join(dir, `.${path.basename(filePath)}.${process.pid}.${Date.now().toString(36)}.tmp`);
+  try {
+    await fs.writeFile(tmp, bytes);
+    await fs.rename(tmp, filePath);
+  } catch (e) {
+    await fs.rm(tmp, { force: true });
+    throw e;
+  }
+}

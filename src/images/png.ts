@@ -1,0 +1,69 @@
+// Reads PNG (all bit depths and colour types) through pngjs and writes 8/16-bit grey PNG.
+// Pure: Uint8Array in and out; must not import fs or other codecs. pngjs itself uses Node's zlib.
+
+import { PNG } from 'pngjs';
+import { GreyImage, ImageError } from './types';
+import { RawSamples, checkDimensions, quantise } from './values';
+
+export interface PngHeader {
+  width: number;
+  height: number;
+  bitDepth: number;
+  colorType: number;
+}
+
+const PNG_COLOUR_TYPES = new Set([0, 2, 3, 4, 6]);
+
+/** Reads IHDR, which the PNG spec (W3C / ISO/IEC 15948, section 11.2.2) requires to be the first chunk. */
+export function readPngHeader(bytes: Uint8Array): PngHeader {
+  if (bytes.length < 8 + 8 + 13) throw new ImageError('broken', 'PNG: file ends inside the IHDR header (truncated file)');
+  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  const type = String.fromCharCode(bytes[12], bytes[13], bytes[14], bytes[15]);
+  if (type !== 'IHDR' || view.getUint32(8) !== 13) throw new ImageError('broken', 'PNG: first chunk is not a 13-byte IHDR');
+  const width = view.getUint32(16);
+  const height = view.getUint32(20);
+  const bitDepth = bytes[24];
+  const colorType = bytes[25];
+  if (!PNG_COLOUR_TYPES.has(colorType) || ![1, 2, 4, 8, 16].includes(bitDepth)) {
+    throw new ImageError('broken', `PNG: invalid colour type ${colorType} / bit depth ${bitDepth} in IHDR`);
+  }
+  return { width, height, bitDepth, colorType };
+}
+
+export function decodePng(bytes: Uint8Array, h: PngHeader, maxPixels: number): RawSamples {
+  checkDimensions(h.width, h.height, maxPixels, 'PNG');
+  let png: { width: number; height: number; data: ArrayLike<number> };
+  try {
+    // skipRescale keeps samples at their stored depth (0..2^bits-1) instead of rescaling to 8 bits;
+    // pngjs always hands back 4 samples per pixel (palette entries expanded to RGBA).
+    png = PNG.sync.read(Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength), { skipRescale: true } as never);
+  } catch (e) {
+    throw new ImageError('broken', `PNG: cannot decode (${(e as Error).message})`);
+  }
+  if (png.width !== h.width || png.height !== h.height || png.data.length < h.width * h.height * 4) {
+    throw new ImageError('broken', 'PNG: decoded size does not match the header');
+  }
+  const palette = h.colorType === 3;
+  const colour = h.colorType === 2 || h.colorType === 6 || palette;
+  // Palette entries are always 8-bit RGB, whatever the index bit depth.
+  const maxval = palette ? 255 : 2 ** h.bitDepth - 1;
+  return { width: h.width, height: h.height, samples: png.data, spp: 4, colour, maxval };
+}
+
+/** Grey PNG (colour type 0); values clamped to [0,1] and rounded to the nearest of 0..2^bitDepth-1. */
+export function encodePng(image: GreyImage, bitDepth: 8 | 16): Uint8Array {
+  const { width, height, data } = image;
+  const png = new PNG({ width, height, colorType: 0, inputColorType: 0, bitDepth, inputHasAlpha: false });
+  if (bitDepth === 8) {
+    const buf = Buffer.alloc(width * height);
+    for (let i = 0; i < data.length; i++) buf[i] = quantise(data[i], 255);
+    png.data = buf;
+  } else {
+    // pngjs reads 16-bit input as native Uint16 values from the buffer and writes them big-endian.
+    const u16 = new Uint16Array(width * height);
+    for (let i = 0; i < data.length; i++) u16[i] = quantise(data[i], 65535);
+    png.data = Buffer.from(u16.buffer);
+  }
+  const out = PNG.sync.write(png, { colorType: 0, inputColorType: 0, bitDepth, inputHasAlpha: false });
+  return new Uint8Array(out.buffer, out.byteOffset, out.byteLength);
+}
