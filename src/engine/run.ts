@@ -1,0 +1,423 @@
+// The runner: allocates padded buffers for a checked scheme, initialises fields, steps the compiled kernels,
+// runs the monitors after each step, and records frame statistics. In-process; worker/ wraps it in a thread.
+// Must not import vscode, the DOM or Node modules (so it also runs inside the engine worker unchanged).
+
+import ndarray from 'ndarray';
+import type { NdArray } from 'ndarray';
+import { psnr as psnrOf, ssim as ssimOf } from '../analysis/metrics';
+import type { CheckedScheme } from '../notation/scheme';
+import { fillGhosts, makeGeometry, planGhosts, readInterior, writeInterior, type GhostPlan } from './boundary';
+import { blurInto, gaussianTaps } from './blur';
+import { jsBackend } from './jsBackend';
+import { EngineError, planHalo, type HaloPlan } from './plan';
+import type {
+  CompiledScheme, DType, FieldArray, FieldStats, FrameStats, Geometry, KernelBackend, KernelContext, RunWarning, WarningKind,
+} from './types';
+
+/** A grey image, row-major: pixel (x, y) is data[y * width + x]. */
+export interface RunImage {
+  readonly data: ArrayLike<number>;
+  readonly width: number;
+  readonly height: number;
+}
+
+export interface MonitorOptions {
+  /** Set only for schemes the analysis classes as extremum-principle schemes (non-negative weights summing to 1). */
+  readonly extremumCheck?: boolean;
+  /** Initial data range for the extremum check; by default the range of the initial fields (and fixed boundary values). */
+  readonly initialMin?: number;
+  readonly initialMax?: number;
+  /** Growth bound = growthFactor × max(1, initial max |field| over all fields); default factor 1e3. */
+  readonly growthFactor?: number;
+  /** An absolute growth bound, overriding the factor. */
+  readonly growthBound?: number;
+}
+
+export interface RunOptions {
+  /** The picture for `field u = image` fields; its size is the grid size. */
+  readonly image?: RunImage | null;
+  /** Grid size when there is no image (default 64×64 in 2d, 256×1 in 1d). */
+  readonly width?: number;
+  readonly height?: number;
+  /** Parameter overrides by name (unknown names are an error). */
+  readonly params?: Readonly<Record<string, number>>;
+  readonly dt?: number;
+  readonly steps?: number;
+  readonly dtype?: DType;
+  /** Record a frame every `every` steps (and always at step 0 and at the last step); 0 records only those two. */
+  readonly every?: number;
+  readonly monitors?: MonitorOptions;
+  /** A clean image: frames then carry PSNR (and SSIM when `ssim` is set) of the primary field against it. */
+  readonly reference?: RunImage | null;
+  readonly ssim?: boolean;
+  readonly backend?: KernelBackend;
+}
+
+export interface Frame {
+  readonly stats: FrameStats;
+  /** Copies of every field's values at this step, as [height, width] views. */
+  readonly fields: Readonly<Record<string, NdArray<FieldArray>>>;
+}
+
+export interface RunCallbacks {
+  onProgress?(step: number, total: number): void;
+  onFrame?(frame: Frame): void;
+  onWarning?(w: RunWarning): void;
+  /** Checked once per step; returning true stops the run after the current step. */
+  shouldCancel?(): boolean;
+}
+
+export type RunStatus = 'done' | 'cancelled' | 'blow-up';
+
+export interface RunResult {
+  readonly status: RunStatus;
+  readonly stepsDone: number;
+  readonly steps: number;
+  readonly dt: number;
+  readonly params: Readonly<Record<string, number>>;
+  readonly dtype: DType;
+  readonly backend: string;
+  readonly stepSeconds: number;
+  readonly frames: FrameStats[];
+  readonly warnings: RunWarning[];
+  readonly best?: { readonly step: number; readonly psnr: number };
+}
+
+const FLOAT32_EPS = 2 ** -23;
+const FLOAT64_EPS = 2 ** -52;
+
+function ulpOf(x: number, dtype: DType): number {
+  const a = Math.abs(x);
+  const eps = dtype === 'float32' ? FLOAT32_EPS : FLOAT64_EPS;
+  if (a === 0 || !Number.isFinite(a)) return eps;
+  return 2 ** Math.floor(Math.log2(a)) * eps;
+}
+
+function nowSeconds(): number {
+  return performance.now() / 1000;
+}
+
+export class Run {
+  readonly scheme: CheckedScheme;
+  readonly compiled: CompiledScheme;
+  readonly geometry: Geometry;
+  readonly dtype: DType;
+  readonly dt: number;
+  readonly steps: number;
+  readonly params: Readonly<Record<string, number>>;
+  readonly halo: HaloPlan;
+  /** Current step (0 before the first). */
+  stepIndex = 0;
+  stepSeconds = 0;
+  status: RunStatus | 'running' = 'running';
+  readonly warnings: RunWarning[] = [];
+  readonly frames: FrameStats[] = [];
+
+  private readonly ctx: KernelContext;
+  private readonly ghosts: GhostPlan[];
+  private readonly updated: number[];
+  private readonly blurTaps: (Float64Array | null)[];
+  private readonly scratch: FieldArray | null;
+  private readonly every: number;
+  private readonly reference: RunImage | null;
+  private readonly wantSsim: boolean;
+  private readonly primary: number;
+  private readonly extremum: { lo: number; hi: number } | null;
+  private readonly growthBound: number;
+  private readonly warned = new Set<string>();
+  private best: { step: number; psnr: number } | undefined;
+
+  constructor(scheme: CheckedScheme, opts: RunOptions = {}) {
+    this.scheme = scheme;
+    this.dtype = opts.dtype ?? 'float32';
+    const backend = opts.backend ?? jsBackend;
+    this.compiled = backend.compile(scheme, { dtype: this.dtype });
+
+    // Parameters: declared values, then overrides; passed to kernels as a vector so sliders never recompile.
+    const values = new Map(scheme.params.map(p => [p.name, p.value]));
+    for (const [name, v] of Object.entries(opts.params ?? {})) {
+      if (!values.has(name)) throw new EngineError(`unknown parameter '${name}'`);
+      if (typeof v !== 'number' || Number.isNaN(v)) throw new EngineError(`parameter '${name}' needs a number`);
+      values.set(name, v);
+    }
+    this.params = Object.fromEntries(values);
+    this.dt = opts.dt ?? scheme.dt;
+    if (!Number.isFinite(this.dt)) throw new EngineError('dt must be a finite number');
+    // `until t = T` keeps T fixed when dt moves (numerics.md, "Time").
+    const defaultSteps = opts.dt !== undefined && scheme.untilTime !== null ? Math.round(scheme.untilTime / this.dt) : scheme.steps;
+    this.steps = opts.steps ?? defaultSteps;
+    if (!Number.isInteger(this.steps) || this.steps < 0) throw new EngineError('steps must be a whole number ≥ 0');
+
+    const image = opts.image ?? null;
+    const needsImage = scheme.fields.some(f => f.init.kind === 'image');
+    if (needsImage && !image) throw new EngineError('this scheme has a field initialised from an image, but no image was given');
+    const width = image ? image.width : opts.width ?? (scheme.dims === 2 ? 64 : 256);
+    const height = image ? image.height : opts.height ?? (scheme.dims === 2 ? 64 : 1);
+    if (!(Number.isInteger(width) && Number.isInteger(height) && width >= 1 && height >= 1)) {
+      throw new EngineError(`the grid must be at least 1×1 pixels, got ${width}×${height}`);
+    }
+    if (image && image.data.length !== width * height) throw new EngineError('the image data does not match its size');
+
+    this.halo = planHalo(scheme, values, this.dt);
+    const g = makeGeometry(width, height, this.halo.halo, scheme.dims);
+    this.geometry = g;
+    const alloc = (): FieldArray => (this.dtype === 'float32' ? new Float32Array(g.pw * g.ph) : new Float64Array(g.pw * g.ph));
+
+    const cur = scheme.fields.map(() => alloc());
+    // Fields without an update stay constant: their "next" buffer is the current one and is never written.
+    const next = scheme.fields.map((f, k) => (f.updated ? alloc() : cur[k]));
+    const lets = scheme.lets.map(() => alloc());
+    this.blurTaps = this.halo.letSigmas.map(s => (s === null ? null : gaussianTaps(s)));
+    this.scratch = this.blurTaps.some(t => t !== null) ? alloc() : null;
+    const n = scheme.fields.length;
+    this.ctx = {
+      cur, next, lets,
+      params: Float64Array.from(scheme.params.map(p => values.get(p.name) as number)),
+      dt: this.dt, t: 0,
+      monitor: { min: new Float64Array(n), max: new Float64Array(n), bad: new Float64Array(n) },
+    };
+    this.updated = [];
+    scheme.fields.forEach((f, k) => {
+      if (f.updated) this.updated.push(k);
+    });
+    this.ghosts = scheme.fields.map(f => planGhosts(g, f.boundary));
+
+    // Initial values, in declaration order (an initialiser may read earlier fields at its own pixel).
+    scheme.fields.forEach((f, k) => {
+      if (f.init.kind === 'image') writeInterior(cur[k], g, (image as RunImage).data);
+      else this.compiled.initField(k, g, this.ctx);
+      fillGhosts(cur[k], g, this.ghosts[k]);
+      // A fixed halo is written once; kernels never write ghost cells, so it survives every swap.
+      if (next[k] !== cur[k]) fillGhosts(next[k], g, this.ghosts[k]);
+    });
+
+    // Monitor set-up from the initial state.
+    let lo = Infinity, hi = -Infinity, maxAbs = 0;
+    scheme.fields.forEach((f, k) => {
+      const s = this.fieldStats(k);
+      lo = Math.min(lo, s.min);
+      hi = Math.max(hi, s.max);
+      maxAbs = Math.max(maxAbs, Math.abs(s.min), Math.abs(s.max));
+      if (f.boundary.kind === 'fixed') {
+        lo = Math.min(lo, f.boundary.value);
+        hi = Math.max(hi, f.boundary.value);
+      }
+    });
+    const m = opts.monitors ?? {};
+    if (m.extremumCheck) {
+      const l = m.initialMin ?? lo, h = m.initialMax ?? hi;
+      // Rounding may overshoot by an ulp or two; 4 ulps of the data range is the agreed slack (numerics.md, "Monitors").
+      const tol = 4 * ulpOf(Math.max(Math.abs(l), Math.abs(h)), this.dtype);
+      this.extremum = { lo: l - tol, hi: h + tol };
+    } else this.extremum = null;
+    this.growthBound = m.growthBound ?? (m.growthFactor ?? 1e3) * Math.max(1, maxAbs);
+
+    this.every = Math.max(0, Math.floor(opts.every ?? 0));
+    this.reference = opts.reference ?? null;
+    if (this.reference && (this.reference.width !== width || this.reference.height !== height)) {
+      throw new EngineError('the reference image must have the size of the grid');
+    }
+    this.wantSsim = opts.ssim ?? false;
+    // PSNR is measured on the field that holds the picture: the first image field, else the first updated one.
+    const img = scheme.fields.findIndex(f => f.init.kind === 'image');
+    this.primary = img >= 0 ? img : Math.max(0, scheme.fields.findIndex(f => f.updated));
+  }
+
+  get t(): number {
+    return this.stepIndex * this.dt;
+  }
+
+  /** One step: lets, fused updates, buffer swap, halo refill, monitors. Returns false once the run has stopped. */
+  step(): boolean {
+    if (this.status !== 'running') return false;
+    const t0 = nowSeconds();
+    const { ctx, geometry: g, scheme } = this;
+    ctx.t = this.stepIndex * this.dt;
+    for (let k = 0; k < scheme.lets.length; k++) {
+      const l = scheme.lets[k];
+      const taps = this.blurTaps[k];
+      if (l.kind === 'blur' && taps) {
+        const src = scheme.symbols.get(l.source) === 'let'
+          ? ctx.lets[scheme.lets.findIndex(x => x.name === l.source)]
+          : ctx.cur[scheme.fields.findIndex(f => f.name === l.source)];
+        blurInto(ctx.lets[k], src, this.scratch as FieldArray, g, taps, this.halo.letExtents[k], scheme.dims);
+      } else this.compiled.computeLet(k, g, ctx, this.halo.letExtents[k]);
+    }
+    this.compiled.update(g, ctx);
+    for (const k of this.updated) {
+      const tmp = ctx.cur[k];
+      ctx.cur[k] = ctx.next[k];
+      ctx.next[k] = tmp;
+      fillGhosts(ctx.cur[k], g, this.ghosts[k]);
+    }
+    this.stepIndex++;
+    this.checkMonitors();
+    this.stepSeconds += nowSeconds() - t0;
+    return this.status === 'running';
+  }
+
+  /** Runs to the end (or cancellation, or blow-up) on the calling thread. */
+  runSync(cb: RunCallbacks = {}): RunResult {
+    this.recordFrame(cb);
+    while (this.stepIndex < this.steps && this.status === 'running') {
+      if (cb.shouldCancel?.()) {
+        this.status = 'cancelled';
+        break;
+      }
+      const before = this.warnings.length;
+      this.step();
+      for (let k = before; k < this.warnings.length; k++) cb.onWarning?.(this.warnings[k]);
+      cb.onProgress?.(this.stepIndex, this.steps);
+      const last = this.stepIndex === this.steps || this.status !== 'running';
+      if (last || (this.every > 0 && this.stepIndex % this.every === 0)) this.recordFrame(cb);
+    }
+    if (this.status === 'running') this.status = 'done';
+    return this.result();
+  }
+
+  /** Like runSync, but yields to the event loop about every `sliceMs` so messages (e.g. cancel) get through. */
+  async run(cb: RunCallbacks = {}, sliceMs = 30): Promise<RunResult> {
+    this.recordFrame(cb);
+    let sliceStart = performance.now();
+    while (this.stepIndex < this.steps && this.status === 'running') {
+      if (cb.shouldCancel?.()) {
+        this.status = 'cancelled';
+        break;
+      }
+      const before = this.warnings.length;
+      this.step();
+      for (let k = before; k < this.warnings.length; k++) cb.onWarning?.(this.warnings[k]);
+      cb.onProgress?.(this.stepIndex, this.steps);
+      const last = this.stepIndex === this.steps || this.status !== 'running';
+      if (last || (this.every > 0 && this.stepIndex % this.every === 0)) this.recordFrame(cb);
+      if (performance.now() - sliceStart > sliceMs) {
+        await new Promise<void>(resolve => setTimeout(resolve, 0));
+        sliceStart = performance.now();
+      }
+    }
+    if (this.status === 'running') this.status = 'done';
+    return this.result();
+  }
+
+  result(): RunResult {
+    return {
+      status: this.status === 'running' ? 'done' : this.status,
+      stepsDone: this.stepIndex,
+      steps: this.steps,
+      dt: this.dt,
+      params: this.params,
+      dtype: this.dtype,
+      backend: this.compiled.backend,
+      stepSeconds: this.stepSeconds,
+      frames: this.frames,
+      warnings: this.warnings,
+      ...(this.best ? { best: this.best } : {}),
+    };
+  }
+
+  /** A copy of a field's current values as a [height, width] view. */
+  field(name: string): NdArray<FieldArray> {
+    const k = this.scheme.fields.findIndex(f => f.name === name);
+    if (k < 0) throw new EngineError(`no field '${name}'`);
+    return ndarray(this.fieldData(k), [this.geometry.height, this.geometry.width]);
+  }
+
+  /** A copy of field k's interior, row-major. */
+  fieldData(k: number): FieldArray {
+    const g = this.geometry;
+    const out = this.dtype === 'float32' ? new Float32Array(g.width * g.height) : new Float64Array(g.width * g.height);
+    return readInterior(out, this.ctx.cur[k], g);
+  }
+
+  /** The padded buffers themselves (read-only use: tests and the kernel-weights view). */
+  get buffers(): readonly FieldArray[] {
+    return this.ctx.cur;
+  }
+
+  fieldStats(k: number): FieldStats {
+    const g = this.geometry;
+    const buf = this.ctx.cur[k];
+    let mn = Infinity, mx = -Infinity, sum = 0;
+    for (let y = 0; y < g.height; y++) {
+      let i = (y + g.haloY) * g.pw + g.haloX;
+      for (let x = 0; x < g.width; x++, i++) {
+        const v = buf[i];
+        if (v < mn) mn = v;
+        if (v > mx) mx = v;
+        sum += v;
+      }
+    }
+    return { min: mn, max: mx, mean: sum / (g.width * g.height) };
+  }
+
+  private recordFrame(cb: RunCallbacks): void {
+    const fields: Record<string, FieldStats> = {};
+    const views: Record<string, NdArray<FieldArray>> = {};
+    const g = this.geometry;
+    this.scheme.fields.forEach((f, k) => {
+      fields[f.name] = this.fieldStats(k);
+      if (cb.onFrame) views[f.name] = ndarray(this.fieldData(k), [g.height, g.width]);
+    });
+    let extra: { psnr?: number; ssim?: number } = {};
+    if (this.reference) {
+      const ref = { width: g.width, height: g.height, data: Float64Array.from(this.reference.data) };
+      const img = { width: g.width, height: g.height, data: this.fieldData(this.primary) };
+      const p = psnrOf(ref, img);
+      extra = { psnr: p };
+      if (this.wantSsim && g.width >= 11 && g.height >= 11) extra.ssim = ssimOf(ref, img);
+      if (!this.best || p > this.best.psnr) this.best = { step: this.stepIndex, psnr: p };
+    }
+    const stats: FrameStats = { step: this.stepIndex, t: this.t, fields, ...extra };
+    this.frames.push(stats);
+    cb.onFrame?.({ stats, fields: views });
+  }
+
+  private warn(kind: WarningKind, k: number, at: { x: number; y: number }, message: string): void {
+    const field = this.scheme.fields[k].name;
+    const update = this.scheme.updates.find(u => u.field === field);
+    if (!update) return;
+    this.warnings.push({ kind, step: this.stepIndex, x: at.x, y: at.y, field, message, range: update.range });
+  }
+
+  /** First interior pixel (row-major) satisfying `bad`; only called on a step that tripped a monitor. */
+  private locate(k: number, bad: (v: number) => boolean): { x: number; y: number; v: number } {
+    const g = this.geometry;
+    const buf = this.ctx.cur[k];
+    for (let y = 0; y < g.height; y++) {
+      const o = (y + g.haloY) * g.pw + g.haloX;
+      for (let x = 0; x < g.width; x++) if (bad(buf[o + x])) return { x, y, v: buf[o + x] };
+    }
+    return { x: -1, y: -1, v: NaN };
+  }
+
+  private checkMonitors(): void {
+    const M = this.ctx.monitor;
+    const where = (p: { x: number; y: number }) => (this.scheme.dims === 2 ? `pixel (${p.x}, ${p.y})` : `cell ${p.x}${this.geometry.height > 1 ? ` of row ${p.y}` : ''}`);
+    for (const k of this.updated) {
+      const name = this.scheme.fields[k].name;
+      if (Number.isNaN(M.bad[k]) || !Number.isFinite(M.min[k]) || !Number.isFinite(M.max[k])) {
+        const p = this.locate(k, v => !Number.isFinite(v));
+        const what = Number.isNaN(p.v) ? 'NaN' : p.v > 0 ? '+Infinity' : '-Infinity';
+        this.warn('blow-up', k, p, `${name} became ${what} at step ${this.stepIndex} (t = ${this.t}), ${where(p)}; the run stopped.`);
+        this.status = 'blow-up';
+        return;
+      }
+      const big = Math.max(Math.abs(M.min[k]), Math.abs(M.max[k]));
+      if (big > this.growthBound && !this.warned.has(`growth:${k}`)) {
+        this.warned.add(`growth:${k}`);
+        const p = this.locate(k, v => Math.abs(v) === big);
+        this.warn('growth', k, p, `|${name}| reached ${big.toPrecision(4)} at step ${this.stepIndex}, ${where(p)}, above the bound ${this.growthBound.toPrecision(4)}: the scheme is probably unstable.`);
+      }
+      const ex = this.extremum;
+      if (ex && (M.max[k] > ex.hi || M.min[k] < ex.lo) && !this.warned.has(`extremum:${k}`)) {
+        this.warned.add(`extremum:${k}`);
+        const p = this.locate(k, v => v > ex.hi || v < ex.lo);
+        this.warn('new-extremum', k, p, `${name} = ${p.v.toPrecision(7)} at step ${this.stepIndex}, ${where(p)}, leaves the initial range [${ex.lo.toPrecision(7)}, ${ex.hi.toPrecision(7)}]: this scheme should keep the extrema, so dt is probably too large.`);
+      }
+    }
+  }
+}
+
+export function createRun(scheme: CheckedScheme, opts: RunOptions = {}): Run {
+  return new Run(scheme, opts);
+}

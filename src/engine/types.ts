@@ -1,0 +1,94 @@
+// Engine data types: the backend interface, compiled schemes, run options, warnings and frame statistics.
+// Plain type definitions shared by the JavaScript backend, the runner and the worker protocol.
+// Must not import vscode, the DOM or Node modules.
+
+import type { SourceRange } from '../notation/ast';
+import type { CheckedScheme } from '../notation/scheme';
+
+export type { CheckedScheme };
+
+export type DType = 'float32' | 'float64';
+export type FieldArray = Float32Array | Float64Array;
+
+/**
+ * A compiled scheme is independent of the image size, the halo, the parameter values and dt:
+ * those arrive at run time, so moving a slider never recompiles.
+ */
+export interface CompiledScheme {
+  readonly backend: string;
+  readonly dtype: DType;
+  readonly signature: string;
+  /** Field init kernels, one per field (null for `image` fields). */
+  initField(index: number, g: Geometry, ctx: KernelContext): void;
+  /** Computes let number `index` (an `expr` let) over the image extended by `extent` cells. */
+  computeLet(index: number, g: Geometry, ctx: KernelContext, extent: number): void;
+  /** All updates of one step, fused into one pixel loop; fills ctx.monitor. */
+  update(g: Geometry, ctx: KernelContext): void;
+}
+
+/** Where another backend (WebAssembly SIMD, a later issue) plugs in. */
+export interface KernelBackend {
+  readonly name: string;
+  compile(scheme: CheckedScheme, opts: { dtype: DType }): CompiledScheme;
+}
+
+/**
+ * Padded buffer geometry shared by every field and let of a run.
+ * Pixel (x, y) lives at index (y + haloY) * pw + (x + haloX); 1d schemes have haloY = 0 and treat rows independently.
+ */
+export interface Geometry {
+  readonly width: number;
+  readonly height: number;
+  readonly haloX: number;
+  readonly haloY: number;
+  /** Padded width (row stride). */
+  readonly pw: number;
+  /** Padded height. */
+  readonly ph: number;
+}
+
+/** Per-field min, max and a non-finite flag, written by the update kernel each step. */
+export interface StepMonitor {
+  /** Indexed by field: min and max of the new values (NaN never compares, so it is tracked separately). */
+  readonly min: Float64Array;
+  readonly max: Float64Array;
+  /** Sum of (v - v) over new values: NaN exactly when some value is NaN or infinite. */
+  readonly bad: Float64Array;
+}
+
+/** Everything a kernel reads or writes; arrays are indexed by field or let number. */
+export interface KernelContext {
+  cur: FieldArray[];
+  next: FieldArray[];
+  lets: FieldArray[];
+  params: Float64Array;
+  dt: number;
+  t: number;
+  monitor: StepMonitor;
+}
+
+export type WarningKind = 'blow-up' | 'new-extremum' | 'growth';
+
+export interface RunWarning {
+  readonly kind: WarningKind;
+  readonly step: number;
+  readonly x: number;
+  readonly y: number;
+  readonly field: string;
+  readonly message: string;
+  readonly range: SourceRange;
+}
+
+export interface FieldStats {
+  readonly min: number;
+  readonly max: number;
+  readonly mean: number;
+}
+
+export interface FrameStats {
+  readonly step: number;
+  readonly t: number;
+  readonly fields: Record<string, FieldStats>;
+  readonly psnr?: number;
+  readonly ssim?: number;
+}
