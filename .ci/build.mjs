@@ -1,0 +1,12 @@
+// Builds dist/: the CLI (dist/cli.js), and later the extension and webview bundles. Run with `npm run build`.
+import { build } from 'esbuild';
+import { chmodSync, existsSync } from 'node:fs';
+
+const common = { bundle: true, platform: 'node', target: 'node20', format: 'cjs', sourcemap: false, logLevel: 'warning' };
+const entries = [
+  { entryPoints: ['src/cli/index.ts'], outfile: 'dist/cli.js', banner: { js: '#!/usr/bin/env node' } },
+];
+if (existsSync('src/engine/workerMain.ts')) entries.push({ entryPoints: ['src/engine/workerMain.ts'], outfile: 'dist/engine-worker.js' });
+if (existsSync('src/extension/extension.ts')) entries.push({ entryPoints: ['src/extension/extension.ts'], outfile: 'dist/extension.js', external: ['vscode'] });
+await Promise.all(entries.map((e) => build({ ...common, ...e })));
+chmodSync('dist/cli.js', 0o755);

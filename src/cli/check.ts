@@ -1,0 +1,64 @@
+// `fluxel check FILE [--json]`: diagnostics (file:line:col severity code message) and, when the analysis
+// is available, the stability verdict. Exit 1 when there are errors, 0 otherwise.
+
+import { readFileSync } from 'node:fs';
+import { parseAndCheck } from '../notation';
+import type { Diagnostic } from '../notation/diagnostics';
+import { guard, parseCommandLine, UsageError } from './args';
+import { stabilityForCheck } from './stabilityHook';
+
+const USAGE = 'usage: fluxel check FILE [--json]';
+
+export function checkMain(argv: string[]): Promise<number> {
+  return guard('check', async () => {
+    const { values, positionals } = parseCommandLine(argv, { json: { type: 'boolean' }, help: { type: 'boolean', short: 'h' } }, USAGE);
+    if (values.help) {
+      process.stdout.write(USAGE + '\n');
+      return 0;
+    }
+    if (positionals.length !== 1) throw new UsageError(`expected one FILE.\n${USAGE}`);
+    const file = positionals[0];
+    let text: string;
+    try {
+      text = readFileSync(file, 'utf8');
+    } catch (err) {
+      process.stderr.write(`fluxel check: cannot read ${file}: ${(err as NodeJS.ErrnoException).code ?? String(err)}\n`);
+      return 1;
+    }
+    const result = parseAndCheck(text);
+    const stability = result.scheme ? stabilityForCheck(result.scheme) : null;
+    const diagnostics: Diagnostic[] = [...result.diagnostics, ...(stability?.diagnostics ?? [])];
+    const errors = diagnostics.filter((d) => d.severity === 'error').length;
+    if (values.json) {
+      const out: Record<string, unknown> = {
+        file,
+        diagnostics: diagnostics.map(jsonDiagnostic),
+      };
+      if (stability) out.stability = stability.report;
+      process.stdout.write(JSON.stringify(out, null, 2) + '\n');
+    } else {
+      for (const d of diagnostics) process.stdout.write(formatDiagnostic(file, d) + '\n');
+      if (stability) process.stdout.write(stability.summary + '\n');
+      const warnings = diagnostics.filter((d) => d.severity === 'warning').length;
+      process.stdout.write(`${file}: ${errors} error${errors === 1 ? '' : 's'}, ${warnings} warning${warnings === 1 ? '' : 's'}\n`);
+    }
+    return errors > 0 ? 1 : 0;
+  });
+}
+
+export function formatDiagnostic(file: string, d: Diagnostic): string {
+  return `${file}:${d.range.start.line}:${d.range.start.column} ${d.severity} ${d.code} ${d.message}`;
+}
+
+/** The JSON form: 1-based lines and columns, exclusive end (contracts.md §4); offsets are internal and dropped. */
+export function jsonDiagnostic(d: Diagnostic): Record<string, unknown> {
+  const pos = (p: { line: number; column: number }) => ({ line: p.line, column: p.column });
+  const out: Record<string, unknown> = {
+    severity: d.severity,
+    code: d.code,
+    message: d.message,
+    range: { start: pos(d.range.start), end: pos(d.range.end) },
+  };
+  if (d.related?.length) out.related = d.related.map((r) => ({ message: r.message, range: { start: pos(r.range.start), end: pos(r.range.end) } }));
+  return out;
+}
