@@ -435,7 +435,10 @@ class Checker {
         let ok = true;
         if (src.kind !== 'name' || !['field', 'let'].includes(this.symbols.get(src.name)?.kind ?? '')) {
           if (src.kind === 'name' && !this.symbols.has(src.name)) this.unknown(src.name, src.range, this.valueNames(scope, ['field', 'let']), 'field');
-          else if (src.kind !== 'error') this.error('blur-source', src.range, '`blur` smooths a field or let field: its first argument must be one of their names.');
+          else if (src.kind !== 'error') {
+            if (src.kind === 'name') this.symbols.get(src.name)!.used = true;
+            this.error('blur-source', src.range, '`blur` smooths a field or let field: its first argument must be one of their names.');
+          }
           ok = false;
         } else {
           this.symbols.get(src.name)!.used = true;
@@ -480,7 +483,10 @@ class Checker {
   private checkFields(b: { defaultBoundary: Boundary; perField: Map<string, { b: Boundary; decl: A.BoundaryDecl }> }): FieldInfo[] {
     for (const [name, { decl }] of b.perField) {
       if (!this.fieldDecls.has(name)) {
-        this.unknown(name, decl.field!.range, this.fieldDecls.keys(), 'field');
+        const suggestion = suggestName(name, this.fieldDecls.keys());
+        this.error('boundary-unknown-field', decl.field!.range, `\`boundary ${name} ...\` names no declared field${suggestion ? `; did you mean \`${suggestion}\`?` : '.'}`, {
+          data: suggestion ? { name, suggestion } : { name },
+        });
       }
     }
     const out: FieldInfo[] = [];
@@ -693,6 +699,7 @@ class Checker {
         this.error('set-dims', e.setRange, `\`${e.set}\` is a ${builtin.dims}d neighbour set; this grid is ${this.dims}d${this.dims === 1 ? ' (use `N2`)' : ' (use `N4` or `N8`)'}.`);
       }
     } else if (userSet) {
+      userSet.used = true;
       if (userSet.kind !== 'set') this.error('unknown-set', e.setRange, `\`${e.set}\` is a ${userSet.kind}, not a neighbour set.`);
     } else {
       const candidates = [...this.setDecls.keys(), ...[...BUILTIN_SETS].filter(([, b]) => b.dims === this.dims).map(([n]) => n)];
@@ -743,6 +750,7 @@ class Checker {
       return;
     }
     const sym = this.symbols.get(name);
+    if (sym) sym.used = true;
     if (sym || scope.fnArgs.has(name) || scope.reduceVars.has(name)) {
       this.error('unknown-function', e.calleeRange, `\`${name}\` is ${sym ? `a ${sym.kind}` : 'not a function'}; it cannot be called.`);
       return;
