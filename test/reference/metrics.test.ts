@@ -1,6 +1,6 @@
 // Reference checks of src/analysis/metrics.ts against Debian's scikit-image 0.19 and numpy, run through
 // test/tools/skimage_metrics.py with /usr/bin/python3; images and results travel as raw float64 files.
-// Imports only the module under test and Node built-ins.
+// Imports the module under test, the scene generator (src/images/scenes.ts) for test pictures, and Node built-ins.
 import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -17,6 +17,7 @@ import {
   totalVariation,
   type MetricImage,
 } from '../../src/analysis/metrics';
+import { makeScene, type SceneName } from '../../src/images/scenes';
 
 // Sources of the reference values:
 // - scikit-image 0.19.3 (Debian python3-skimage), skimage/metrics/_structural_similarity.py, read from
@@ -118,6 +119,17 @@ function makeCases(): Case[] {
     cases.push({ name: 'one_window', ref: image(11, 11, () => next()), img: image(11, 11, () => next()) });
     const ref = image(12, 150, (x, y) => Math.abs(Math.sin(0.3 * x + 0.05 * y)));
     cases.push({ name: 'tall_strip', ref, img: image(12, 150, (x, y) => ref.data[y * 12 + x] ** 2) });
+  }
+  // The project's generated scenes (src/images/scenes.ts), clean against noisy, passed to our metrics as the
+  // Float32 images makeScene returns (Float32 → Float64 is exact, so python sees the same values).
+  const scenes: [SceneName, number, number][] = [
+    ['survey', 0.05, 0],
+    ['cells', 0.1, 0],
+    ['card', 0.02, 0.01],
+  ];
+  for (const [name, noise, saltPepper] of scenes) {
+    const scene = makeScene(name, { width: 96, height: 72, noise, saltPepper, seed: 5 });
+    cases.push({ name: `scene_${name}`, ref: scene.clean, img: scene.noisy });
   }
   return cases;
 }

@@ -62,6 +62,9 @@ Image.fromarray(smooth_rgb, "RGB").save(f"{out}/rgb.jpg", quality=95, subsamplin
 dec = np.asarray(Image.open(f"{out}/rgb.jpg").convert("RGB"))
 add("rgb.jpg", luma(dec, 255), 2 / 255 + 1e-6, "PIL RGB -> JPEG q95 4:4:4; vs libjpeg decode", [dec[..., c] / 255.0 for c in range(3)])
 
+Image.fromarray(smooth, "L").save(f"{out}/progressive.jpg", quality=95, progressive=True)
+add("progressive.jpg", np.asarray(Image.open(f"{out}/progressive.jpg")) / 255.0, 2 / 255 + 1e-6, "PIL L -> progressive JPEG q95")
+
 # TIFF 6.0 (Adobe 1992): 8/16-bit unsigned, 32-bit float (SampleFormat 3), both byte orders, compressions.
 Image.fromarray(grey16).save(f"{out}/grey16.tif")
 add("grey16.tif", grey16 / 65535.0, 1e-7, "PIL I;16 -> TIFF 16-bit little-endian")
@@ -75,6 +78,12 @@ tifffile.imwrite(f"{out}/float-deflate.tif", flt, compression="zlib")
 add("float-deflate.tif", flt, 0, "tifffile Deflate (compression 8) float")
 tifffile.imwrite(f"{out}/rgb8.tif", rgb8, photometric="rgb")
 add("rgb8.tif", luma(rgb8, 255), 1e-6, "tifffile RGB 8-bit, BT.709 luma", [rgb8[..., c] / 255.0 for c in range(3)])
+tifffile.imwrite(f"{out}/grey16-predictor.tif", grey16, compression="zlib", predictor=True)
+add("grey16-predictor.tif", grey16 / 65535.0, 1e-7, "tifffile Deflate with horizontal differencing (Predictor 2, TIFF 6.0 section 14)")
+tifffile.imwrite(f"{out}/rgb8-predictor.tif", rgb8, photometric="rgb", compression="zlib", predictor=True)
+add("rgb8-predictor.tif", luma(rgb8, 255), 1e-6, "tifffile RGB Deflate + Predictor 2")
+tifffile.imwrite(f"{out}/grey16-miniswhite.tif", grey16, photometric="miniswhite")
+add("grey16-miniswhite.tif", 1 - grey16 / 65535.0, 1e-7, "tifffile WhiteIsZero (PhotometricInterpretation 0): white stays bright")
 Image.fromarray(grey8, "L").save(f"{out}/grey8-lzw.tif", compression="tiff_lzw")
 add("grey8-lzw.tif", grey8 / 255.0, 1e-7, "PIL/libtiff LZW (compression 5)")
 Image.fromarray(grey8, "L").save(f"{out}/grey8-packbits.tif", compression="packbits")
