@@ -58,11 +58,17 @@ export class AstBuilder {
     return lo <= hi ? this.lines.range(lo, hi) : null;
   }
 
+  /** The smallest range covering both; a placeholder range (from a fully recovered node) is ignored. */
   private span(a: A.SourceRange, b: A.SourceRange): A.SourceRange {
-    return { start: a.start, end: b.end };
+    if (a === this.fallback) return b;
+    if (b === this.fallback) return a;
+    return {
+      start: a.start.offset <= b.start.offset ? a.start : b.start,
+      end: a.end.offset >= b.end.offset ? a.end : b.end,
+    };
   }
 
-  private fallback: A.SourceRange = { start: { offset: 0, line: 1, column: 1 }, end: { offset: 0, line: 1, column: 1 } };
+  private readonly fallback: A.SourceRange = { start: { offset: 0, line: 1, column: 1 }, end: { offset: 0, line: 1, column: 1 } };
 
   // ---------------------------------------------------------------- helpers
 
