@@ -77,3 +77,13 @@ describe('grid shapes', () => {
     }
   });
 });
+
+describe('cancellation', () => {
+  it('shouldCancel is checked before every step: a run cancelled after step 5 has done exactly 5 steps', () => {
+    const s = schemeOf(`grid 2d\nstep dt = 0.2\nsteps 50\nfield u = image\nu' = u + dt * sum n in N4: u[n] - u\n`);
+    const run = createRun(s, { image: randomImage(8, 8, 1) });
+    let seen = 0;
+    const r = run.runSync({ onProgress: step => { seen = step; }, shouldCancel: () => seen >= 5 });
+    expect([r.status, r.stepsDone]).toEqual(['cancelled', 5]);
+  });
+});
