@@ -141,12 +141,12 @@ function cells(w: number, h: number): Float32Array {
     const y0 = Math.max(0, Math.floor(by - reach));
     const y1 = Math.min(h - 1, Math.ceil(by + reach));
     const k2 = 1 / (2 * sigma * sigma);
+    // The Gaussian factorises, exp(-(dx^2 + dy^2) k) = exp(-dx^2 k) exp(-dy^2 k), so one row of x factors serves all rows.
+    const gx = new Float64Array(x1 - x0 + 1);
+    for (let x = x0; x <= x1; x++) gx[x - x0] = Math.exp(-((x + 0.5 - bx) ** 2) * k2);
     for (let y = y0; y <= y1; y++) {
-      const dy = y + 0.5 - by;
-      for (let x = x0; x <= x1; x++) {
-        const dx = x + 0.5 - bx;
-        out[y * w + x] *= 1 - amp * Math.exp(-(dx * dx + dy * dy) * k2);
-      }
+      const ay = amp * Math.exp(-((y + 0.5 - by) ** 2) * k2);
+      for (let x = x0; x <= x1; x++) out[y * w + x] *= 1 - ay * gx[x - x0];
     }
   }
   for (let i = 0; i < out.length; i++) out[i] = clamp01(1 - out[i]);
