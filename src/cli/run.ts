@@ -1,0 +1,245 @@
+// `fluxel run FILE ...`: runs a scheme in-process on an image or a generated scene and writes the result,
+// optional frames and a --stats JSON document (contracts.md §4). Exit 0 ok, 1 input errors, 2 usage.
+// Node-only front end over src/engine, src/images and src/notation; must not import vscode.
+
+import { createHash } from 'node:crypto';
+import { promises as fs } from 'node:fs';
+import * as path from 'node:path';
+import { formatFromExtension } from '../images/codec';
+import { readImageFile, writeImageFile } from '../images/files';
+import { makeScene } from '../images/scenes';
+import { ImageError, type GreyImage } from '../images/types';
+import { parseAndCheck } from '../notation';
+import type { SourceRange } from '../notation/ast';
+import { createRun, EngineError, type RunImage, type RunWarning } from '../engine';
+import { guard, parseCommandLine, UsageError } from './args';
+import { formatDiagnostic } from './check';
+
+const USAGE = [
+  'usage: fluxel run FILE [--input PATH [--range LO:HI] | --scene NAME [--noise SIGMA] [--seed N]] [--size WxH]',
+  '                  [--set NAME=VALUE ...] [--steps N] [--float64] [--field NAME] [--extremum-check]',
+  '                  --output PATH [--frames DIR --every K] [--stats PATH]',
+  '  --set also accepts dt=VALUE; without --input or --scene, image fields use the survey scene.',
+].join('\n');
+
+const OPTIONS = {
+  input: { type: 'string' },
+  range: { type: 'string' },
+  scene: { type: 'string' },
+  noise: { type: 'string' },
+  seed: { type: 'string' },
+  size: { type: 'string' },
+  set: { type: 'string', multiple: true },
+  steps: { type: 'string' },
+  float64: { type: 'boolean' },
+  field: { type: 'string' },
+  'extremum-check': { type: 'boolean' },
+  output: { type: 'string', short: 'o' },
+  frames: { type: 'string' },
+  every: { type: 'string' },
+  stats: { type: 'string' },
+  help: { type: 'boolean', short: 'h' },
+} as const;
+
+function number(text: string, what: string): number {
+  const v = Number(text);
+  if (text.trim() === '' || !Number.isFinite(v)) throw new UsageError(`${what} needs a number, got '${text}'.\n${USAGE}`);
+  return v;
+}
+
+function whole(text: string, what: string, min: number): number {
+  const v = number(text, what);
+  if (!Number.isInteger(v) || v < min) throw new UsageError(`${what} needs a whole number ≥ ${min}, got '${text}'.\n${USAGE}`);
+  return v;
+}
+
+const jsonRange = (r: SourceRange) => ({ start: { line: r.start.line, column: r.start.column }, end: { line: r.end.line, column: r.end.column } });
+
+/** Writes text to a temporary file beside `file` and renames it over, so `file` is replaced only on success. */
+async function writeAtomically(file: string, text: string): Promise<void> {
+  const tmp = path.join(path.dirname(file), `.${path.basename(file)}.${process.pid}.tmp`);
+  try {
+    await fs.writeFile(tmp, text);
+    await fs.rename(tmp, file);
+  } catch (err) {
+    await fs.rm(tmp, { force: true });
+    throw err;
+  }
+}
+
+export function runMain(argv: string[]): Promise<number> {
+  return guard('run', async () => {
+    const { values: o, positionals } = parseCommandLine(argv, OPTIONS, USAGE);
+    if (o.help) {
+      process.stdout.write(USAGE + '\n');
+      return 0;
+    }
+    if (positionals.length !== 1) throw new UsageError(`expected one FILE.\n${USAGE}`);
+    const file = positionals[0];
+    if (!o.output) throw new UsageError(`--output PATH is required.\n${USAGE}`);
+    if (formatFromExtension(o.output) === null) throw new UsageError(`cannot tell the output format of ${o.output}; use .png, .pgm, .pfm, .tif or .tiff.`);
+    if (o.input && o.scene) throw new UsageError(`give --input or --scene, not both.\n${USAGE}`);
+    if ((o.noise !== undefined || o.seed !== undefined) && !o.scene) throw new UsageError(`--noise and --seed go with --scene.\n${USAGE}`);
+    if (o.range !== undefined && !o.input) throw new UsageError(`--range goes with --input.\n${USAGE}`);
+    if ((o.frames === undefined) !== (o.every === undefined)) throw new UsageError(`--frames DIR and --every K go together.\n${USAGE}`);
+    const steps = o.steps === undefined ? undefined : whole(o.steps, '--steps', 0);
+    const every = o.every === undefined ? 0 : whole(o.every, '--every', 1);
+    const params: Record<string, number> = {};
+    let dt: number | undefined;
+    for (const s of o.set ?? []) {
+      const eq = s.indexOf('=');
+      if (eq <= 0) throw new UsageError(`--set takes NAME=VALUE, got '${s}'.\n${USAGE}`);
+      const name = s.slice(0, eq).trim();
+      const value = number(s.slice(eq + 1), `--set ${name}`);
+      if (name === 'dt') dt = value;
+      else params[name] = value;
+    }
+    let size: { width: number; height: number } | undefined;
+    if (o.size !== undefined) {
+      const m = /^(\d+)x(\d+)$/.exec(o.size);
+      if (!m) throw new UsageError(`--size takes WxH, e.g. 128x96, got '${o.size}'.\n${USAGE}`);
+      size = { width: whole(m[1], '--size width', 1), height: whole(m[2], '--size height', 1) };
+    }
+    let range: { lo: number; hi: number } | undefined;
+    if (o.range !== undefined) {
+      const m = /^([^:]+):([^:]+)$/.exec(o.range);
+      if (!m) throw new UsageError(`--range takes LO:HI, got '${o.range}'.\n${USAGE}`);
+      range = { lo: number(m[1], '--range LO'), hi: number(m[2], '--range HI') };
+    }
+
+    let text: string;
+    try {
+      text = await fs.readFile(file, 'utf8');
+    } catch (err) {
+      process.stderr.write(`fluxel run: cannot read ${file}: ${(err as NodeJS.ErrnoException).code ?? String(err)}\n`);
+      return 1;
+    }
+    const checked = parseAndCheck(text);
+    const errors = checked.diagnostics.filter(d => d.severity === 'error');
+    if (!checked.scheme || errors.length) {
+      for (const d of errors) process.stderr.write(formatDiagnostic(file, d) + '\n');
+      return 1;
+    }
+    const scheme = checked.scheme;
+    for (const name of Object.keys(params)) {
+      if (!scheme.params.some(p => p.name === name)) {
+        throw new UsageError(`--set ${name}: the scheme has no parameter '${name}' (parameters: ${scheme.params.map(p => p.name).join(', ') || 'none'}).`);
+      }
+    }
+    if (o.field !== undefined && !scheme.fields.some(f => f.name === o.field)) {
+      throw new UsageError(`--field ${o.field}: the scheme has no field '${o.field}'.`);
+    }
+
+    // The picture: a file, a named scene (noisy input, clean reference for PSNR), or the default scene when needed.
+    let image: RunImage | null = null;
+    let reference: RunImage | null = null;
+    let inputName: string | null = null;
+    let seed: number | undefined;
+    const needsImage = scheme.fields.some(f => f.init.kind === 'image');
+    try {
+      if (o.input) {
+        const decoded = await readImageFile(o.input, range ? { range } : {});
+        image = decoded.channels[0];
+        inputName = o.input;
+      } else if (o.scene || needsImage) {
+        const name = o.scene ?? 'survey';
+        seed = o.seed === undefined ? undefined : whole(o.seed, '--seed', 0);
+        const scene = makeScene(name, {
+          ...(size ?? {}),
+          ...(o.noise !== undefined ? { noise: number(o.noise, '--noise') } : {}),
+          ...(seed !== undefined ? { seed } : {}),
+        });
+        image = scene.noisy;
+        reference = scene.clean;
+        seed = scene.options.seed;
+        inputName = `scene:${scene.name}`;
+      }
+    } catch (err) {
+      if (err instanceof ImageError) {
+        process.stderr.write(`fluxel run: ${err.message}\n`);
+        return err.code === 'bad-option' && o.scene ? 2 : 1;
+      }
+      throw err;
+    }
+
+    let run;
+    try {
+      run = createRun(scheme, {
+        image, reference, params, dt, steps, every,
+        width: size?.width, height: size?.height,
+        dtype: o.float64 ? 'float64' : 'float32',
+        monitors: { extremumCheck: o['extremum-check'] ?? false },
+      });
+    } catch (err) {
+      if (err instanceof EngineError) {
+        process.stderr.write(`fluxel run: ${file}: ${err.message}\n`);
+        return 1;
+      }
+      throw err;
+    }
+    // The output field: --field, else the field holding the picture, else the first updated field.
+    const imageField = scheme.fields.findIndex(f => f.init.kind === 'image');
+    const outIndex = o.field !== undefined
+      ? scheme.fields.findIndex(f => f.name === o.field)
+      : imageField >= 0 ? imageField : Math.max(0, scheme.fields.findIndex(f => f.updated));
+    const outName = scheme.fields[outIndex].name;
+    const ext = path.extname(o.output);
+    const grey = (data: ArrayLike<number>): GreyImage => ({ width: run.geometry.width, height: run.geometry.height, data: Float32Array.from(data) });
+
+    const frameWrites: Promise<void>[] = [];
+    if (o.frames) await fs.mkdir(o.frames, { recursive: true });
+    const printWarning = (w: RunWarning) => process.stderr.write(`${file}:${w.range.start.line}:${w.range.start.column} warning ${w.kind} ${w.message}\n`);
+
+    // A progress bar only on a terminal; pipes and CI logs stay quiet.
+    let bar: { update(n: number): void; stop(): void } | null = null;
+    if (process.stderr.isTTY && run.steps > 0) {
+      const { SingleBar, Presets } = await import('cli-progress');
+      const b = new SingleBar({ stream: process.stderr, format: 'fluxel run [{bar}] {value}/{total} steps', hideCursor: true }, Presets.shades_classic);
+      b.start(run.steps, 0);
+      bar = b;
+    }
+    const result = await run.run({
+      onProgress: step => bar?.update(step),
+      onWarning: w => {
+        // The bar and the warning lines share stderr: stop the bar so the warning is not overdrawn.
+        bar?.stop();
+        bar = null;
+        printWarning(w);
+      },
+      onFrame: frame => {
+        if (!o.frames) return;
+        const view = frame.fields[outName];
+        const target = path.join(o.frames, `${outName}-${String(frame.stats.step).padStart(6, '0')}${ext}`);
+        frameWrites.push(writeImageFile(target, grey(view.data)));
+      },
+    });
+    bar?.stop();
+    await Promise.all(frameWrites);
+
+    if (o.stats) {
+      const stats = {
+        scheme: file,
+        input: inputName,
+        params: result.params,
+        dt: result.dt,
+        steps: result.steps,
+        backend: result.backend,
+        dtype: result.dtype,
+        stepSeconds: result.stepSeconds,
+        frames: result.frames,
+        warnings: result.warnings.map(w => ({ ...w, range: jsonRange(w.range) })),
+        ...(result.best ? { best: result.best } : {}),
+        sourceHash: createHash('sha256').update(text).digest('hex'),
+        ...(seed !== undefined ? { seed } : {}),
+      };
+      // JSON has no Infinity: PSNR of identical images is +∞ (numerics.md), written as the string "inf".
+      await writeAtomically(o.stats, JSON.stringify(stats, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? (Number.isNaN(v) ? 'nan' : v > 0 ? 'inf' : '-inf') : v), 2) + '\n');
+    }
+    if (result.status === 'blow-up') {
+      process.stderr.write(`fluxel run: ${file}: the run blew up; no output written.\n`);
+      return 1;
+    }
+    await writeImageFile(o.output, grey(run.fieldData(outIndex)));
+    return 0;
+  });
+}
