@@ -134,6 +134,19 @@ function linearModel(scheme: CheckedScheme, ev: SchemeEvaluator): DtModel | null
   return buildDtModel(updatedFields(scheme).names.length, (d) => matrixAt(ev, read, 0, 0, d, 0, { kind: 'full' }), dt);
 }
 
+/**
+ * The constant weights of a linear constant-coefficient scheme at its declared dt (matrix indices follow the
+ * updated fields in scheme order), or null when the scheme is not of that class.
+ */
+export function linearStencil(scheme: CheckedScheme): MatrixStencil | null {
+  try {
+    const m = linearModel(scheme, new SchemeEvaluator(scheme));
+    return m ? m.at(scheme.dt) : null;
+  } catch {
+    return null;
+  }
+}
+
 function vonNeumannReport(scheme: CheckedScheme, model: DtModel, diffusivities: DiffusivityReport[]): StabilityReport {
   const vn = vonNeumann(model, scheme.dims, scheme.dt > 0 ? scheme.dt : 1);
   const pl = positivityLimit(model, scheme.dt > 0 ? scheme.dt : 1);
@@ -331,6 +344,16 @@ function linearised(scheme: CheckedScheme, ev: SchemeEvaluator, state: FieldStat
   const dl = vonNeumann(affineModel(n, diffusionPart(best.model.rate)), scheme.dims, dtRef).limit;
   if (Number.isFinite(dl)) diffusion = diffusion === null ? dl : Math.min(diffusion, dl);
   return { best: { vn, diffusion: dl, x: best.x, y: best.y }, diffusion };
+}
+
+/**
+ * The linearised method alone, whatever the class: the frozen-coefficient local limit over the initial state
+ * (or `state`). Used to cross-check the other methods (numerics.md).
+ */
+export function linearisedEstimate(scheme: CheckedScheme, opts: AnalyseOptions & { state?: FieldState } = {}): { limit: number; x: number; y: number; diffusionLimit: number | null } | null {
+  const ev = new SchemeEvaluator(scheme);
+  const { best, diffusion } = linearised(scheme, ev, opts.state ?? initialState(scheme, opts.image));
+  return best ? { limit: best.vn.limit, x: best.x, y: best.y, diffusionLimit: diffusion } : null;
 }
 
 // ------------------------------------------------------------------------------------------------ entry point

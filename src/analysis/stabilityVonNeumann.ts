@@ -240,8 +240,8 @@ export function vonNeumann(model: DtModel, dims: 1 | 2, dtRef: number, perHalf =
     for (const [re] of eigenvalues(symbol(model.rate, th, rs))) if (re > growTol) c++;
     return c;
   };
-  const ths = grid.slice();
-  const grow = growingAt.slice();
+  let ths = grid;
+  let grow = growingAt;
   const rho = (dt: number): { value: number; theta: number[] } => {
     const w = model.at(dt);
     let best = -1;
@@ -282,17 +282,20 @@ export function vonNeumann(model: DtModel, dims: 1 | 2, dtRef: number, perHalf =
     }
     return { limit: lo, hi };
   };
-  // Bisection on the grid, then once more with the refined worst frequency added (it can only lower the limit).
+  // Bisection on the grid, then on the refined worst frequency alone: the limit over both sets is the smaller.
   const first = search();
   if (!Number.isFinite(first.limit) || first.limit === 0 || !refineWorst) {
     return { limit: first.limit, worstTheta: rho(first.hi).theta, growth, closedForm: false };
   }
   const w = model.at(first.hi);
   const r = refine((th) => -rhoAt(w, th, growingOf(th)), rho(first.hi).theta, step / 2);
-  ths.push(r.theta);
-  grow.push(growingOf(r.theta));
+  ths = [r.theta];
+  grow = [growingOf(r.theta)];
   const second = search();
-  return { limit: Math.min(first.limit, second.limit), worstTheta: rho(second.hi).theta, growth, closedForm: false };
+  if (second.limit < first.limit) return { limit: second.limit, worstTheta: r.theta, growth, closedForm: false };
+  ths = grid;
+  grow = growingAt;
+  return { limit: first.limit, worstTheta: rho(first.hi).theta, growth, closedForm: false };
 }
 
 /** Smallest t > 0 where p(t) = Σ c_k t^k turns negative (Infinity if never); 0 when negative just after 0. */
