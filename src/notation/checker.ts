@@ -97,7 +97,7 @@ class Checker {
 
   run(priorErrors: number): CheckResult {
     const decls = this.program.decls;
-    const settings = this.settings(decls);
+    const settings = this.settings(decls, priorErrors === 0);
     this.declareNames(decls);
     this.checkSets();
     const functions = this.checkFunctions();
@@ -106,10 +106,12 @@ class Checker {
     const updates = this.checkUpdates(decls);
     this.reportUnused();
 
-    if (fields.length === 0 && !decls.some((d) => d.kind === 'field')) {
+    // With syntax errors, a broken declaration may be the "missing" one: say nothing about absences then.
+    const complete = priorErrors === 0;
+    if (complete && fields.length === 0 && !decls.some((d) => d.kind === 'field')) {
       this.error('no-fields', this.firstLine(), 'The scheme declares no field: add one, e.g. `field u = image`.');
     }
-    if (updates.length === 0 && fields.length > 0) {
+    if (complete && updates.length === 0 && fields.length > 0) {
       this.report('no-updates', 'warning', this.firstLine(), 'No field has an update (`u\' = ...`): the run would change nothing.');
     }
 
@@ -156,7 +158,7 @@ class Checker {
 
   // ---------------------------------------------------------------- settings
 
-  private settings(decls: readonly A.Decl[]) {
+  private settings(decls: readonly A.Decl[], complete: boolean) {
     const seen = new Map<string, A.Decl>();
     const once = (key: string, d: A.Decl, what: string): boolean => {
       const prev = seen.get(key);
@@ -243,11 +245,11 @@ class Checker {
           break;
       }
     }
-    if (!gridSeen) {
+    if (!gridSeen && complete) {
       this.error('missing-grid', this.firstLine(), 'The scheme has no `grid` declaration: add `grid 2d` (or `grid 1d`) at the top.');
     }
-    if (!stepRange) this.error('missing-step', this.firstLine(), 'The scheme has no time step: add e.g. `step dt = 0.2`.');
-    if (!seen.has('steps')) this.error('missing-steps', this.firstLine(), 'The scheme does not say how long to run: add `steps N` or `until t = T`.');
+    if (!stepRange && complete) this.error('missing-step', this.firstLine(), 'The scheme has no time step: add e.g. `step dt = 0.2`.');
+    if (!seen.has('steps') && complete) this.error('missing-steps', this.firstLine(), 'The scheme does not say how long to run: add `steps N` or `until t = T`.');
     if (untilDecl && dt !== null) {
       const ratio = untilDecl.time.value / dt;
       steps = Math.round(ratio);

@@ -6,9 +6,8 @@ import type { Program } from './ast';
 import { check } from './checker';
 import type { Diagnostic } from './diagnostics';
 import { LineIndex } from './lineIndex';
-import { parseCst } from './parser';
+import { parseText } from './parser';
 import type { CheckedScheme } from './scheme';
-import { AstBuilder } from './toAst';
 
 export type { Program, Expr, SourceRange, Position } from './ast';
 export type { Diagnostic, Severity } from './diagnostics';
@@ -27,18 +26,15 @@ export interface CheckedResult extends ParseResult {
 /** Lexes and parses; syntax errors come back as diagnostics beside a partial tree. */
 export function parse(text: string): ParseResult {
   const lines = new LineIndex(text);
-  const builder = new AstBuilder(lines);
+  const range = lines.range(0, text.length);
   try {
-    const r = parseCst(text);
-    for (const e of r.lexErrors) builder.lexError(e.offset, e.length, text);
-    for (const e of r.parseErrors) builder.parseError(e);
-    const program = builder.program(r.cst);
-    return { program, diagnostics: sortDiagnostics(builder.diagnostics) };
+    const r = parseText(text, lines);
+    return { program: { kind: 'program', decls: r.decls, range }, diagnostics: sortDiagnostics(r.diagnostics) };
   } catch (err) {
     // Defence in depth: the parser recovers from every error we know of; if it ever throws, say so instead of crashing.
     const msg = err instanceof Error ? err.message : String(err);
-    builder.diagnostics.push({ range: lines.range(0, 0), severity: 'error', code: 'syntax-error', message: `The file could not be read as a scheme (${msg}).` });
-    return { program: { kind: 'program', decls: [], range: lines.range(0, text.length) }, diagnostics: builder.diagnostics };
+    const d: Diagnostic = { range: lines.range(0, 0), severity: 'error', code: 'syntax-error', message: `The file could not be read as a scheme (${msg}).` };
+    return { program: { kind: 'program', decls: [], range }, diagnostics: [d] };
   }
 }
 

@@ -92,4 +92,4 @@ export const KEYWORDS = [
   'diffusivity', 'fn', 'let', 'neighbours', 'neighbors', 'in', 'if', 'then', 'else', 'sum', 'and', 'or', 'not', 'max', 'min',
 ];
 
-export const FluxelLexer = new Lexer(allTokens, { ensureOptimizations: true, positionTracking: 'full' });
+export const FluxelLexer = new Lexer(allTokens, { ensureOptimizations: true, positionTracking: 'onlyOffset' });

@@ -1,0 +1,51 @@
+// Parse + check of a generated 2,000-line scheme, median over repeated runs (target: under 20 ms).
+// Baseline in the same run: the lexer alone over the same text, so the ratio shows what parsing and checking add.
+
+import { parseAndCheck } from '../../src/notation';
+import { FluxelLexer } from '../../src/notation/tokens';
+
+/** A plausible large scheme: many params, helper functions, lets and fields with 4- and 8-neighbour updates. */
+export function generateScheme(lines: number): string {
+  const out = ['# generated benchmark scheme', 'grid 2d', 'spacing 1', 'boundary reflect', 'step dt = 0.05', 'steps 10'];
+  let i = 0;
+  while (out.length < lines) {
+    const k = i++;
+    out.push(`param K${k} = 0.${(k % 9) + 1} in [0.01, 1]`);
+    out.push(`diffusivity g${k}(s) = 1 / (1 + (s / K${k})^2)`);
+    out.push(`fn soft${k}(a, b) = a / (1 + abs(b)) + if a > b then a else b`);
+    out.push(`field u${k} = ${k % 3 === 0 ? 'image' : `0.5 + 0.1 * sin(x / 7 + ${k}) * cos(y / 5)`}`);
+    out.push(`let w${k} = blur(u${k}, 1)`);
+    out.push(`# field ${k}: edge-preserving diffusion with a small reaction term`);
+    out.push(`u${k}' = u${k} + dt * (sum n in N${k % 2 ? 8 : 4}: g${k}(w${k}[n] - w${k}) / len(n)^2 * (u${k}[n] - u${k}))`);
+    out.push(`  + dt * 0.01 * soft${k}(u${k}[1,0] - u${k}[-1,0], u${k}[0,1] - u${k}[0,-1]) * K${k}`);
+  }
+  return out.slice(0, lines).join('\n') + '\n';
+}
+
+function median(xs: number[]): number {
+  const s = [...xs].sort((a, b) => a - b);
+  return s[Math.floor(s.length / 2)];
+}
+
+const text = generateScheme(2000);
+const check = parseAndCheck(text);
+const errors = check.diagnostics.filter((d) => d.severity === 'error');
+if (errors.length) throw new Error(`benchmark input has errors: ${errors[0].message} at line ${errors[0].range.start.line}`);
+
+for (let k = 0; k < 10; k++) parseAndCheck(text); // warm-up: let the JIT settle
+const runs = 31;
+const lexMs: number[] = [];
+const allMs: number[] = [];
+for (let k = 0; k < runs; k++) {
+  let t0 = performance.now();
+  FluxelLexer.tokenize(text);
+  lexMs.push(performance.now() - t0);
+  t0 = performance.now();
+  parseAndCheck(text);
+  allMs.push(performance.now() - t0);
+}
+const m = median(allMs);
+const tokens = FluxelLexer.tokenize(text).tokens.length;
+console.log(`input: ${text.split('\n').length - 1} lines, ${tokens} tokens, ${check.diagnostics.length} diagnostics`);
+console.log(`lexer alone      median ${median(lexMs).toFixed(2)} ms`);
+console.log(`parse + check    median ${m.toFixed(2)} ms over ${runs} runs  (ratio to lexer ${(m / median(lexMs)).toFixed(1)}x; target < 20 ms: ${m < 20 ? 'met' : 'NOT met'})`);
