@@ -49,7 +49,7 @@ class FluxelParser extends EmbeddedActionsParser {
 
   private tr(tok: IToken | undefined): A.SourceRange {
     if (!usable(tok)) return this.here();
-    return this.lines.range(tok.startOffset, (tok.endOffset ?? tok.startOffset) + 1);
+    return this.lines.range(tok.startOffset, tok.startOffset + tok.image.length);
   }
 
   /** A zero-width range at the next real token (or the end of the text), for things that are missing. */
@@ -534,11 +534,11 @@ export function parseText(text: string, lines: LineIndex): SyntaxResult {
 
 function syntaxDiagnostic(e: IRecognitionException, lines: LineIndex): Diagnostic {
   let range: A.SourceRange;
-  if (usable(e.token)) range = lines.range(e.token.startOffset, (e.token.endOffset ?? e.token.startOffset) + 1);
+  if (usable(e.token)) range = lines.range(e.token.startOffset, e.token.startOffset + e.token.image.length);
   else {
     // At the end of input (or on an inserted token) point just after the previous real token.
     const prev = (e as IRecognitionException & { previousToken?: IToken }).previousToken;
-    const at = usable(prev) ? (prev.endOffset ?? prev.startOffset) + 1 : lines.length;
+    const at = usable(prev) ? prev.startOffset + prev.image.length : lines.length;
     range = lines.range(at, at);
   }
   return { range, severity: 'error', code: 'syntax-error', message: describeParseError(e) };

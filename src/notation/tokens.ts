@@ -92,4 +92,5 @@ export const KEYWORDS = [
   'diffusivity', 'fn', 'let', 'neighbours', 'neighbors', 'in', 'if', 'then', 'else', 'sum', 'and', 'or', 'not', 'max', 'min',
 ];
 
+// Only offsets are tracked: lines and columns come from LineIndex when a range is built, which halves the lexer's garbage.
 export const FluxelLexer = new Lexer(allTokens, { ensureOptimizations: true, positionTracking: 'onlyOffset' });
