@@ -1,14 +1,36 @@
-// The seam between `fluxel check` and the stability analysis (src/analysis). Until the analysis lands this reports nothing.
+// The seam between `fluxel check` and the static stability analysis: runs it on a checked scheme and
+// returns the JSON `stability` object (contracts.md §4), its diagnostics and a one-line verdict for people.
 
-import type { CheckedScheme } from '../notation/scheme';
+import { analyseStability, stabilityDiagnostics, type StabilityReport } from '../analysis/stability';
 import type { Diagnostic } from '../notation/diagnostics';
+import type { CheckedScheme } from '../notation/scheme';
 
 export interface CheckStability {
-  readonly report: unknown;
+  readonly report: StabilityReport;
   readonly diagnostics: readonly Diagnostic[];
   readonly summary: string;
 }
 
-export function stabilityForCheck(_scheme: CheckedScheme): CheckStability | null {
-  return null;
+const METHOD_WORDS: Record<string, string> = {
+  'von-neumann': 'von Neumann analysis',
+  positivity: 'positivity (extremum principle) bound',
+  linearised: 'linearised local estimate',
+  none: 'no method applies',
+};
+
+export function stabilityForCheck(scheme: CheckedScheme): CheckStability {
+  const report = analyseStability(scheme);
+  const diagnostics = stabilityDiagnostics(scheme, report);
+  const verdict = report.method === 'none'
+    ? 'no bound known'
+    : report.stable
+      ? report.estimate ? 'estimate only, within limit' : 'within limit'
+      : 'over the limit';
+  const limit = report.unconditional ? 'any dt > 0' : report.limit === null ? 'none' : `dt ≤ ${fmt(report.limit)}`;
+  const summary = `stability: ${verdict} (dt = ${fmt(report.dt)}, limit ${limit}, by ${METHOD_WORDS[report.method] ?? report.method}). ${report.reason}`;
+  return { report, diagnostics, summary };
+}
+
+function fmt(v: number): string {
+  return Number(v.toPrecision(6)).toString();
 }
