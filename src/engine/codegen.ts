@@ -30,10 +30,28 @@ type Kind = 'init' | 'let' | 'update';
 /** Statements being emitted, with a counter for fresh temporaries. */
 class Emitter {
   lines: string[] = [];
+  /** Loop-invariant statements (params, constants, dt, t only), placed before the pixel loops. */
+  readonly hoisted: string[] = [];
+  readonly hoistMemo = new Map<string, string>();
+  /** Per block: expression text already held by a temporary (common subexpressions are computed once). */
+  private memo: Map<string, string>[] = [new Map()];
   private n = 0;
   readonly offsets = new Map<string, string>();
   temp(): string {
     return `v${this.n++}`;
+  }
+  lookup(js: string): string | undefined {
+    return this.memo[this.memo.length - 1].get(js);
+  }
+  remember(js: string, name: string): void {
+    this.memo[this.memo.length - 1].set(js, name);
+  }
+  /** A nested block (an if branch) sees the outer temporaries; its own die with it. */
+  pushScope(): void {
+    this.memo.push(new Map(this.memo[this.memo.length - 1]));
+  }
+  popScope(): void {
+    this.memo.pop();
   }
   /** The generated name of the index offset dx + dy·pw, declared once at the top of the kernel. */
   offset(o: Offset): string {
@@ -60,6 +78,8 @@ interface Env {
   readonly locals: ReadonlyMap<string, string>;
   /** Reduction variables in scope, bound to one concrete offset each (reductions are unrolled). */
   readonly offsets: ReadonlyMap<string, Offset>;
+  /** Function parameters whose argument is loop-invariant. */
+  readonly invariantLocals: ReadonlySet<string>;
   readonly depth: number;
 }
 
@@ -83,17 +103,73 @@ class Lowering {
     readonly kind: Kind,
     /** Fields whose new value is already in a local `nK` (update kernel only). */
     readonly primedReady: Set<number>,
+    readonly dtype: DType = 'float64',
   ) {}
 
   private isSimple(js: string): boolean {
     return /^(?:[a-z][a-z0-9]*|\(?-?[0-9.e+-]+\)?|NaN|Infinity)$/.test(js);
   }
 
+  /** `(1 / X)` results, so that `(1 / X) * Y` can become `Y / X` (one division fewer, at most an ulp apart). */
+  private readonly reciprocals = new Map<string, string>();
+
   private bind(js: string): string {
     if (this.isSimple(js)) return js;
+    const known = this.em.lookup(js);
+    if (known) return known;
     const t = this.em.temp();
     this.em.lines.push(`const ${t} = ${js};`);
+    this.em.remember(js, t);
     return t;
+  }
+
+  /** Binds loop-invariant text once, before the loops. */
+  private hoistJs(js: string): string {
+    if (this.isSimple(js)) return js;
+    const known = this.em.hoistMemo.get(js);
+    if (known) return known;
+    const t = this.em.temp();
+    this.em.hoisted.push(`const ${t} = ${js};`);
+    this.em.hoistMemo.set(js, t);
+    return t;
+  }
+
+  /** True when `e` reads nothing that changes inside a kernel call (no fields, lets, x, y or reductions). */
+  invariant(e: Expr, env: Env): boolean {
+    switch (e.kind) {
+      case 'number': return true;
+      case 'name':
+        if (env.locals.has(e.name)) return env.invariantLocals.has(e.name);
+        switch (this.scheme.symbols.get(e.name)) {
+          case 'param': return true;
+          case 'constant': return e.name !== 'x' && e.name !== 'y';
+          default: return false;
+        }
+      case 'unary': return this.invariant(e.operand, env);
+      case 'binary': return this.invariant(e.left, env) && this.invariant(e.right, env);
+      case 'if': return this.invariant(e.cond, env) && this.invariant(e.then, env) && this.invariant(e.otherwise, env);
+      case 'call': {
+        if (e.callee === 'len' || !e.args.every(a => this.invariant(a, env))) return false;
+        const fn = this.scheme.functions.get(e.callee);
+        if (!fn) return true;
+        if (env.depth > MAX_INLINE_DEPTH) throw new EngineError('user functions nest too deeply');
+        return this.invariant(fn.body, { locals: new Map(fn.params.map(p => [p, p])), offsets: new Map(), invariantLocals: new Set(fn.params), depth: env.depth + 1 });
+      }
+      default: return false;
+    }
+  }
+
+  lower(e: Expr, env: Env): string {
+    if (e.kind !== 'number' && e.kind !== 'name' && this.invariant(e, env)) {
+      // Lowered with the loop body swapped out, so any statements it needs land before the loops too.
+      const outer = this.em.lines;
+      this.em.lines = this.em.hoisted;
+      const js = this.lowerRaw(e, env);
+      this.em.lines = outer;
+      return this.hoistJs(js);
+    }
+    const js = this.lowerRaw(e, env);
+    return this.em.lookup(js) ?? js;
   }
 
   private read(target: string, o: Offset | null): string {
@@ -105,12 +181,13 @@ class Lowering {
       if (this.kind === 'init') throw new EngineError('a field initialiser cannot read a let field');
       buf = `l${l}`;
     } else throw new EngineError('neighbour access to something that is not a field');
-    if (o === null || o.every(c => c === 0)) return `${buf}[i]`;
+    // Every read is loaded once per pixel into a temporary: V8 does not always merge repeated typed-array loads.
+    if (o === null || o.every(c => c === 0)) return this.bind(`${buf}[i]`);
     const full: Offset = this.scheme.dims === 1 ? [o[0], 0] : o;
-    return `${buf}[i + ${this.em.offset(full)}]`;
+    return this.bind(`${buf}[i + ${this.em.offset(full)}]`);
   }
 
-  lower(e: Expr, env: Env): string {
+  private lowerRaw(e: Expr, env: Env): string {
     switch (e.kind) {
       case 'number': return jsNumber(e.value);
       case 'name': {
@@ -138,7 +215,8 @@ class Lowering {
             throw new EngineError('a primed value read before its update');
           }
           if (e.offset !== null) throw new EngineError('primed values are read at the same pixel only');
-          return `n${f}`;
+          // Float32 semantics: a primed read sees exactly the stored (rounded) value, so read it back.
+          return this.dtype === 'float32' ? `d${f}[i]` : `n${f}`;
         }
         let o: Offset | null = null;
         if (e.offset?.kind === 'literal') o = e.offset.components.map(offsetComponent);
@@ -158,9 +236,24 @@ class Lowering {
       case 'binary': {
         if (e.op === '^') return this.power(e.left, e.right, env);
         const a = this.lower(e.left, env);
+        if (e.op === '/' && this.invariant(e.right, env)) {
+          // Division by a loop-invariant value becomes a product with its reciprocal, computed once per call.
+          return `(${a} * ${this.hoistJs(`(1 / ${this.lower(e.right, env)})`)})`;
+        }
         const b = this.lower(e.right, env);
         switch (e.op) {
-          case '+': case '-': case '*': case '/': return `(${a} ${e.op} ${b})`;
+          case '*': {
+            const ra = this.reciprocals.get(a), rb = this.reciprocals.get(b);
+            if (ra !== undefined) return `(${b} / ${ra})`;
+            if (rb !== undefined) return `(${a} / ${rb})`;
+            return `(${a} * ${b})`;
+          }
+          case '/': {
+            const js = `(${a} / ${b})`;
+            if (e.left.kind === 'number' && e.left.value === 1) this.reciprocals.set(js, b);
+            return js;
+          }
+          case '+': case '-': return `(${a} ${e.op} ${b})`;
           case '<': case '<=': case '>': case '>=': return `(${a} ${e.op} ${b} ? 1 : 0)`;
           case '==': return `(${a} === ${b} ? 1 : 0)`;
           case '!=': return `(${a} !== ${b} ? 1 : 0)`;
@@ -174,10 +267,14 @@ class Lowering {
         // Branches are evaluated lazily: their statements go inside the if/else blocks.
         const outer = this.em.lines;
         this.em.lines = [];
+        this.em.pushScope();
         const a = this.lower(e.then, env);
+        this.em.popScope();
         const thenLines = this.em.lines;
         this.em.lines = [];
+        this.em.pushScope();
         const b = this.lower(e.otherwise, env);
+        this.em.popScope();
         const elseLines = this.em.lines;
         this.em.lines = outer;
         if (thenLines.length === 0 && elseLines.length === 0) return `(${c} !== 0 ? ${a} : ${b})`;
@@ -218,9 +315,13 @@ class Lowering {
       if (env.depth > MAX_INLINE_DEPTH) throw new EngineError('user functions nest too deeply');
       if (fn.params.length !== e.args.length) throw new EngineError('wrong number of arguments');
       const locals = new Map<string, string>();
-      fn.params.forEach((p, k) => locals.set(p, this.bind(this.lower(e.args[k], env))));
+      const inv = new Set<string>();
+      fn.params.forEach((p, k) => {
+        if (this.invariant(e.args[k], env)) inv.add(p);
+        locals.set(p, this.bind(this.lower(e.args[k], env)));
+      });
       // Inlined: the body sees its parameters and the scheme's top-level names, not the caller's locals.
-      return this.lower(fn.body, { locals, offsets: new Map(), depth: env.depth + 1 });
+      return this.lower(fn.body, { locals, offsets: new Map(), invariantLocals: inv, depth: env.depth + 1 });
     }
     if (e.callee === 'len') {
       const a = e.args[0];
@@ -249,7 +350,7 @@ class Lowering {
   }
 }
 
-const ROOT: Env = { locals: new Map(), offsets: new Map(), depth: 0 };
+const ROOT: Env = { locals: new Map(), offsets: new Map(), invariantLocals: new Set(), depth: 0 };
 
 export interface GeneratedSource {
   /** Body of a factory `(Math) => ({ inits, lets, update })`. */
@@ -268,11 +369,6 @@ function prologue(scheme: CheckedScheme): string[] {
   return lines;
 }
 
-function rounding(dtype: DType, js: string): string {
-  // Float32 semantics: the stored value is rounded, and a primed read must see exactly what is stored.
-  return dtype === 'float32' ? `Math.fround(${js})` : js;
-}
-
 export function generateSource(scheme: CheckedScheme, dtype: DType): GeneratedSource {
   const names = new Names(scheme);
   const out: string[] = ['"use strict";'];
@@ -288,7 +384,7 @@ export function generateSource(scheme: CheckedScheme, dtype: DType): GeneratedSo
     const low = new Lowering(scheme, names, em, 'init', new Set());
     const v = low.lower(f.init.expr, ROOT);
     out.push(
-      `function init${k}(g, ctx) {`, ...prologue(scheme), ...em.offsetDecls(),
+      `function init${k}(g, ctx) {`, ...prologue(scheme), ...em.offsetDecls(), ...em.hoisted,
       'for (let y = 0; y < H; y++) {', 'let i = (y + hy) * pw + hx;', 'for (let x = 0; x < W; x++, i++) {',
       ...em.lines, `c${k}[i] = ${v};`, '}', '}', '}',
     );
@@ -307,7 +403,7 @@ export function generateSource(scheme: CheckedScheme, dtype: DType): GeneratedSo
     const v = low.lower(l.expr, ROOT);
     const ey = scheme.dims === 2 ? 'e' : '0';
     out.push(
-      `function let${k}(g, ctx, e) {`, ...prologue(scheme), ...em.offsetDecls(),
+      `function let${k}(g, ctx, e) {`, ...prologue(scheme), ...em.offsetDecls(), ...em.hoisted,
       `for (let y = -${ey}; y < H + ${ey}; y++) {`, 'let i = (y + hy) * pw + hx - e;', 'for (let x = -e; x < W + e; x++, i++) {',
       ...em.lines, `l${k}[i] = ${v};`, '}', '}', '}',
     );
@@ -317,7 +413,7 @@ export function generateSource(scheme: CheckedScheme, dtype: DType): GeneratedSo
   // All updates fused into one pixel loop, in evaluation order, with the monitors' min/max/non-finite tracking.
   const em = new Emitter();
   const ready = new Set<number>();
-  const low = new Lowering(scheme, names, em, 'update', ready);
+  const low = new Lowering(scheme, names, em, 'update', ready, dtype);
   const body: string[] = [];
   const monitorInit: string[] = [];
   const monitorStore: string[] = [];
@@ -326,15 +422,16 @@ export function generateSource(scheme: CheckedScheme, dtype: DType): GeneratedSo
     if (k === undefined) throw new EngineError('an update of an unknown field');
     em.lines = [];
     const v = low.lower(u.expr, ROOT);
-    body.push(...em.lines, `const n${k} = ${rounding(dtype, v)};`, `d${k}[i] = n${k};`);
-    // NaN fails both comparisons; (v - v) is NaN exactly for NaN and ±Infinity, and adding it costs no branch.
-    body.push(`if (n${k} < mn${k}) mn${k} = n${k};`, `if (n${k} > mx${k}) mx${k} = n${k};`, `bd${k} += n${k} - n${k};`);
+    body.push(...em.lines, `const n${k} = ${v};`, `d${k}[i] = n${k};`);
+    // Math.min/max propagate NaN and compile without branches (measured faster than compare-and-branch);
+    // the monitors look at the value before Float32 rounding, and run.ts treats |v| > 3.4e38 as overflow.
+    body.push(`mn${k} = Math.min(mn${k}, n${k});`, `mx${k} = Math.max(mx${k}, n${k});`);
     ready.add(k);
-    monitorInit.push(`const d${k} = ctx.next[${k}];`, `let mn${k} = Infinity, mx${k} = -Infinity, bd${k} = 0;`);
-    monitorStore.push(`M.min[${k}] = mn${k};`, `M.max[${k}] = mx${k};`, `M.bad[${k}] = bd${k};`);
+    monitorInit.push(`const d${k} = ctx.next[${k}];`, `let mn${k} = Infinity, mx${k} = -Infinity;`);
+    monitorStore.push(`M.min[${k}] = mn${k};`, `M.max[${k}] = mx${k};`, `M.bad[${k}] = (mn${k} - mn${k}) + (mx${k} - mx${k});`);
   }
   out.push(
-    'function update(g, ctx) {', ...prologue(scheme), 'const M = ctx.monitor;', ...monitorInit, ...em.offsetDecls(),
+    'function update(g, ctx) {', ...prologue(scheme), 'const M = ctx.monitor;', ...monitorInit, ...em.offsetDecls(), ...em.hoisted,
     'for (let y = 0; y < H; y++) {', 'let i = (y + hy) * pw + hx;', 'for (let x = 0; x < W; x++, i++) {',
     ...body, '}', '}', ...monitorStore, '}',
   );

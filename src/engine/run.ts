@@ -85,6 +85,7 @@ export interface RunResult {
 
 const FLOAT32_EPS = 2 ** -23;
 const FLOAT64_EPS = 2 ** -52;
+const FLOAT32_MAX = 3.4028234663852886e38;
 
 function ulpOf(x: number, dtype: DType): number {
   const a = Math.abs(x);
@@ -390,12 +391,26 @@ export class Run {
     return { x: -1, y: -1, v: NaN };
   }
 
+  /** The interior pixel with the largest |value| (first in row-major order on ties). */
+  private locateLargest(k: number): { x: number; y: number; v: number } {
+    const g = this.geometry;
+    const buf = this.ctx.cur[k];
+    let best = { x: 0, y: 0, v: buf[g.haloY * g.pw + g.haloX] };
+    for (let y = 0; y < g.height; y++) {
+      const o = (y + g.haloY) * g.pw + g.haloX;
+      for (let x = 0; x < g.width; x++) if (Math.abs(buf[o + x]) > Math.abs(best.v)) best = { x, y, v: buf[o + x] };
+    }
+    return best;
+  }
+
   private checkMonitors(): void {
     const M = this.ctx.monitor;
     const where = (p: { x: number; y: number }) => (this.scheme.dims === 2 ? `pixel (${p.x}, ${p.y})` : `cell ${p.x}${this.geometry.height > 1 ? ` of row ${p.y}` : ''}`);
     for (const k of this.updated) {
       const name = this.scheme.fields[k].name;
-      if (Number.isNaN(M.bad[k]) || !Number.isFinite(M.min[k]) || !Number.isFinite(M.max[k])) {
+      // Kernels report values before Float32 rounding: beyond FLT_MAX the stored value is ±Infinity.
+      const overflow = this.dtype === 'float32' && Math.max(Math.abs(M.min[k]), Math.abs(M.max[k])) > FLOAT32_MAX;
+      if (overflow || Number.isNaN(M.bad[k]) || !Number.isFinite(M.min[k]) || !Number.isFinite(M.max[k])) {
         const p = this.locate(k, v => !Number.isFinite(v));
         const what = Number.isNaN(p.v) ? 'NaN' : p.v > 0 ? '+Infinity' : '-Infinity';
         this.warn('blow-up', k, p, `${name} became ${what} at step ${this.stepIndex} (t = ${this.t}), ${where(p)}; the run stopped.`);
@@ -405,14 +420,15 @@ export class Run {
       const big = Math.max(Math.abs(M.min[k]), Math.abs(M.max[k]));
       if (big > this.growthBound && !this.warned.has(`growth:${k}`)) {
         this.warned.add(`growth:${k}`);
-        const p = this.locate(k, v => Math.abs(v) === big);
+        const p = this.locateLargest(k);
         this.warn('growth', k, p, `|${name}| reached ${big.toPrecision(4)} at step ${this.stepIndex}, ${where(p)}, above the bound ${this.growthBound.toPrecision(4)}: the scheme is probably unstable.`);
       }
       const ex = this.extremum;
       if (ex && (M.max[k] > ex.hi || M.min[k] < ex.lo) && !this.warned.has(`extremum:${k}`)) {
         this.warned.add(`extremum:${k}`);
         const p = this.locate(k, v => v > ex.hi || v < ex.lo);
-        this.warn('new-extremum', k, p, `${name} = ${p.v.toPrecision(7)} at step ${this.stepIndex}, ${where(p)}, leaves the initial range [${ex.lo.toPrecision(7)}, ${ex.hi.toPrecision(7)}]: this scheme should keep the extrema, so dt is probably too large.`);
+        // Kernels compare values before Float32 rounding; only warn when a stored value is really out of range.
+        if (p.x >= 0) this.warn('new-extremum', k, p, `${name} = ${p.v.toPrecision(7)} at step ${this.stepIndex}, ${where(p)}, leaves the initial range [${ex.lo.toPrecision(7)}, ${ex.hi.toPrecision(7)}]: this scheme should keep the extrema, so dt is probably too large.`);
       }
     }
   }

@@ -52,7 +52,7 @@ export interface StepMonitor {
   /** Indexed by field: min and max of the new values (NaN never compares, so it is tracked separately). */
   readonly min: Float64Array;
   readonly max: Float64Array;
-  /** Sum of (v - v) over new values: NaN exactly when some value is NaN or infinite. */
+  /** (min - min) + (max - max): NaN exactly when some new value is NaN or infinite (Math.min/max propagate NaN). */
   readonly bad: Float64Array;
 }
 
