@@ -9,6 +9,7 @@ type Command = (argv: string[]) => Promise<number>;
 /** Commands are loaded lazily so `fluxel check` does not pay for the engine and image codecs. */
 const COMMANDS: Record<string, { summary: string; load: () => Promise<Command> }> = {
   check: { summary: 'check a scheme: diagnostics and the stability verdict', load: async () => checkMain },
+  run: { summary: 'run a scheme on an image or a generated scene and write the result', load: async () => (await import('./run')).runMain },
 };
 
 export function registerCommand(name: string, summary: string, load: () => Promise<Command>): void {
