@@ -1,14 +1,23 @@
-// Test runner configuration: unit tests under test/unit, published-reference checks under test/reference.
+// Test runner configuration. Two groups: ordinary test files (at most two at once: the machines have 2 cores),
+// then files named *.serial.test.ts, which start workers or load the whole machine, one at a time (contracts.md §7).
 import { defineConfig } from 'vitest/config';
+
+const EXCLUDE = ['test/editor/**', 'node_modules/**', 'dist/**'];
 
 export default defineConfig({
   test: {
-    include: ['test/**/*.test.ts'],
-    exclude: ['test/editor/**', 'node_modules/**', 'dist/**'],
     testTimeout: 120_000,
     hookTimeout: 120_000,
-    // Two cores: test files that start workers or load the whole machine are few; run files in at most two forks.
     pool: 'forks',
-    maxWorkers: 2,
+    projects: [
+      {
+        extends: true,
+        test: { name: 'parallel', include: ['test/**/*.test.ts'], exclude: [...EXCLUDE, 'test/**/*.serial.test.ts'], maxWorkers: 2, sequence: { groupOrder: 0 } },
+      },
+      {
+        extends: true,
+        test: { name: 'serial', include: ['test/**/*.serial.test.ts'], exclude: EXCLUDE, maxWorkers: 1, fileParallelism: false, sequence: { groupOrder: 1 } },
+      },
+    ],
   },
 });

@@ -6,7 +6,7 @@ const common = { bundle: true, platform: 'node', target: 'node20', format: 'cjs'
 const entries = [
   { entryPoints: ['src/cli/index.ts'], outfile: 'dist/cli.js', banner: { js: '#!/usr/bin/env node' } },
 ];
-if (existsSync('src/engine/workerMain.ts')) entries.push({ entryPoints: ['src/engine/workerMain.ts'], outfile: 'dist/engine-worker.js' });
+if (existsSync('src/engine/worker/workerMain.ts')) entries.push({ entryPoints: ['src/engine/worker/workerMain.ts'], outfile: 'dist/engine-worker.js' });
 if (existsSync('src/extension/extension.ts')) entries.push({ entryPoints: ['src/extension/extension.ts'], outfile: 'dist/extension.js', external: ['vscode'] });
 await Promise.all(entries.map((e) => build({ ...common, ...e })));
 chmodSync('dist/cli.js', 0o755);

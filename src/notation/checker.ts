@@ -4,7 +4,7 @@
 
 import type * as A from './ast';
 import { walkExpr } from './ast';
-import { BUILTIN_FUNCTIONS, BUILTIN_SETS, MAX_OFFSET } from './builtins';
+import { applyBuiltin, BUILTIN_FUNCTIONS, BUILTIN_SETS, MAX_OFFSET } from './builtins';
 import type { Diagnostic, RelatedInfo, CheckerCode } from './diagnostics';
 import {
   CONSTANT_NAMES, type Boundary, type CheckedScheme, type FieldInfo, type FunctionInfo, type LetInfo,
@@ -23,7 +23,7 @@ interface Scope {
   /** Function arguments in scope (inside a function body). */
   readonly fnArgs: ReadonlySet<string>;
   /** Where we are: decides where `blur` and primes may appear. */
-  readonly context: 'update' | 'let' | 'function' | 'field-init' | 'set';
+  readonly context: 'update' | 'let' | 'function' | 'field-init' | 'constant' | 'set';
   /** Fields whose new values this update reads (filled while checking an update). */
   readonly primes?: Map<string, A.SourceRange>;
   /** Names of lets/fields this let reads (filled while checking a let). */
@@ -84,6 +84,8 @@ class Checker {
   private readonly setDecls = new Map<string, A.NeighboursDecl>();
   private readonly setOffsets = new Map<string, Offset[]>();
   private readonly updatedFields = new Set<string>();
+  private readonly fnDirectReads = new Map<string, boolean>();
+  private readonly fnReadsFields = new Map<string, boolean>();
 
   constructor(private readonly program: A.Program) {}
 
@@ -256,7 +258,7 @@ class Checker {
       untilTime = untilDecl.time.value;
       if (Math.abs(ratio - steps) > 1e-9 * Math.max(1, ratio)) {
         this.report('until-not-multiple', 'warning', untilDecl.time.range,
-          `t = ${untilDecl.time.value} is not a whole number of steps of dt = ${dt}; the run takes ${steps} steps and ends at t = ${steps * dt}.`);
+          `t = ${untilDecl.time.value} is not a whole number of steps of dt = ${dt}; the run takes ${steps} steps and ends at t = ${Number((steps * dt).toPrecision(12))}.`);
       }
     }
     return { spacing, dt, dtBounds, stepRange, steps, untilTime, boundaries: { defaultBoundary, perField } };
@@ -389,9 +391,10 @@ class Checker {
       if (d.diffusivity && d.params.length !== 1) {
         this.error('diffusivity-arity', d.name.range, `A diffusivity is a function of one argument (the contrast s), e.g. \`diffusivity ${name}(s) = ...\`; this one takes ${d.params.length}.`);
       }
-      const scope: Scope = { reduceVars: new Set(), fnArgs: args, context: 'function', calls: new Set() };
+      const scope: Scope = { reduceVars: new Set(), fnArgs: args, context: 'function', calls: new Set(), reads: new Set() };
       this.expr(d.body, scope);
       calls.set(name, scope.calls!);
+      this.fnDirectReads.set(name, scope.reads!.size > 0);
       out.set(name, { name, diffusivity: d.diffusivity, params: d.params.map((p) => p.name), body: d.body, decl: d });
     }
     // Recursion: a depth-first search over the call graph; report each function on a cycle once.
@@ -416,7 +419,58 @@ class Checker {
       state.set(f, 2);
     };
     for (const f of calls.keys()) if (!state.get(f)) visit(f, [f]);
+    // A function reads fields if its body does, or any function it calls does (cycles were reported above).
+    const memo = new Map<string, boolean>();
+    const reads = (f: string, seen: Set<string>): boolean => {
+      if (memo.has(f)) return memo.get(f)!;
+      if (seen.has(f)) return false;
+      seen.add(f);
+      const r = (this.fnDirectReads.get(f) ?? false) || [...(calls.get(f) ?? [])].some((g) => reads(g, seen));
+      memo.set(f, r);
+      return r;
+    };
+    for (const f of calls.keys()) this.fnReadsFields.set(f, reads(f, new Set()));
     return out;
+  }
+
+  /** Constant-folds an expression of numbers, params (at their defaults) and pi/h; null when it depends on anything else. */
+  private fold(e: A.Expr): number | null {
+    switch (e.kind) {
+      case 'number': return e.value;
+      case 'name': {
+        if (e.name === 'pi') return Math.PI;
+        const p = this.paramDecls.get(e.name);
+        return p ? p.value.value : null;
+      }
+      case 'unary': {
+        const v = this.fold(e.operand);
+        return v === null ? null : e.op === '-' ? -v : e.op === '+' ? v : v === 0 ? 1 : 0;
+      }
+      case 'binary': {
+        const a = this.fold(e.left);
+        const b = this.fold(e.right);
+        if (a === null || b === null) return null;
+        switch (e.op) {
+          case '+': return a + b;
+          case '-': return a - b;
+          case '*': return a * b;
+          case '/': return a / b;
+          case '^': return Math.pow(a, b);
+          default: return null;
+        }
+      }
+      case 'call': {
+        if (!BUILTIN_FUNCTIONS.has(e.callee)) return null;
+        const args = e.args.map((a) => this.fold(a));
+        if (args.some((a) => a === null)) return null;
+        try {
+          return applyBuiltin(e.callee, args as number[]);
+        } catch {
+          return null;
+        }
+      }
+      default: return null;
+    }
   }
 
   // ---------------------------------------------------------------- lets
@@ -446,9 +500,13 @@ class Checker {
           this.symbols.get(src.name)!.used = true;
           scope.reads!.add(src.name);
         }
-        // Sigma is one number for the whole grid: it may use params and constants, not fields.
-        const sigmaScope: Scope = { reduceVars: new Set(), fnArgs: new Set(), context: 'field-init' };
+        // Sigma is one number for the whole grid: it may use numbers, params, pi, h and dt, not fields, x, y or t.
+        const sigmaScope: Scope = { reduceVars: new Set(), fnArgs: new Set(), context: 'constant' };
         this.expr(sigma, sigmaScope);
+        const folded = this.fold(sigma);
+        if (folded !== null && !(folded >= 0 && Number.isFinite(folded))) {
+          this.error('blur-sigma', sigma.range, `The blur width must be a finite number ≥ 0; this one is ${folded}.`);
+        }
         reads.set(name, scope.reads!);
         if (ok && src.kind === 'name') infos.set(name, { kind: 'blur', name, source: src.name, sigma, expr: e, range: d.range });
         continue;
@@ -531,7 +589,7 @@ class Checker {
         if (sym) this.error('update-unknown-field', d.field.range, `\`${name}\` is a ${sym.kind}, not a field: only fields have updates.`);
         else {
           const suggestion = suggestName(name, this.fieldDecls.keys());
-          this.error('update-unknown-field', d.field.range, `\`${name}'\` updates an undeclared field${suggestion ? `; did you mean \`${suggestion}\`?` : `; declare it with \`field ${name} = ...\``}.`, {
+          this.error('update-unknown-field', d.field.range, `\`${name}'\` updates an undeclared field${suggestion ? `; did you mean \`${suggestion}\`?` : `; declare it with \`field ${name} = ...\`.`}`, {
             data: suggestion ? { name, suggestion } : { name },
           });
         }
@@ -625,20 +683,28 @@ class Checker {
     }
     const sym = this.symbols.get(name);
     if (!sym) {
-      this.unknown(name, range, this.valueNames(scope));
+      if (BUILTIN_FUNCTIONS.has(name) || name === 'blur' || name === 'len') {
+        this.error('not-a-value', range, `\`${name}\` is a built-in function: call it, e.g. \`${name}(...)\`.`);
+      } else if (BUILTIN_SETS.has(name)) {
+        this.error('not-a-value', range, `\`${name}\` is a neighbour set: use it in \`sum n in ${name}: ...\`.`);
+      } else this.unknown(name, range, this.valueNames(scope));
       return;
     }
     sym.used = true;
     switch (sym.kind) {
       case 'field':
       case 'let':
-        if (scope.context === 'field-init') {
-          this.error('field-init-reads-field', range, `\`${name}\` is a ${sym.kind}; initial values and blur widths may use only numbers, params, constants, x and y.`);
+        if (scope.context === 'field-init' || scope.context === 'constant') {
+          this.error('field-init-reads-field', range, `\`${name}\` is a ${sym.kind}; initial values and blur widths may use only numbers, params and constants.`);
         }
         scope.reads?.add(name);
         return;
       case 'param':
+        return;
       case 'constant':
+        if (scope.context === 'constant' && (name === 'x' || name === 'y' || name === 't')) {
+          this.error('blur-sigma', range, `The blur width is one number for the whole grid and every step; it cannot depend on \`${name}\`.`);
+        }
         return;
       case 'function':
       case 'diffusivity':
@@ -664,7 +730,7 @@ class Checker {
         this.error('offset-target', e.targetRange, `\`${e.target}\` is a ${sym.kind}, not a field or let field, so it has no neighbours or new value.`);
         return;
       }
-      if (scope.context === 'field-init') {
+      if (scope.context === 'field-init' || scope.context === 'constant') {
         this.error('field-init-reads-field', e.range, `Initial values and blur widths cannot read fields; \`${e.target}\` is a ${sym.kind}.`);
       }
       scope.reads?.add(e.target);
@@ -744,6 +810,9 @@ class Checker {
     if (fn) {
       this.symbols.get(name)!.used = true;
       scope.calls?.add(name);
+      if ((scope.context === 'field-init' || scope.context === 'constant') && this.fnReadsFields.get(name)) {
+        this.error('field-init-reads-field', e.calleeRange, `\`${name}\` reads fields or let fields, so it cannot be used in an initial value or a blur width.`);
+      }
       if (fn.params.length !== e.args.length) {
         this.error('wrong-arity', e.calleeRange, `\`${name}\` takes ${fn.params.length} argument${fn.params.length === 1 ? '' : 's'}; ${e.args.length} given.`, {
           related: [{ range: fn.name.range, message: 'declared here' }],

@@ -548,7 +548,7 @@ const TOKEN_WORDS: Record<string, string> = {
   Identifier: 'a name', NumberLit: 'a number', GridDims: '`1d` or `2d`', Equals: '`=`', Prime: '`\'`',
   LParen: '`(`', RParen: '`)`', LBracket: '`[`', RBracket: '`]`', LBrace: '`{`', RBrace: '`}`', Comma: '`,`', Colon: '`:`',
   AddOp: '`+` or `-`', MulOp: '`*` or `/`', Caret: '`^`', Comparison: 'a comparison', In: '`in`', Then: '`then`', Else: '`else`',
-  Reflect: '`reflect`', Periodic: '`periodic`', Fixed: '`fixed`', ImageKw: '`image`',
+  Reflect: '`reflect`', Periodic: '`periodic`', Fixed: '`fixed`', ImageKw: '`image`', EOF: 'the end of the declaration',
 };
 
 /** Our own wording for chevrotain's recognition errors: what was found, and what would fit. */
