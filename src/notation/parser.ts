@@ -314,13 +314,7 @@ class FluxelParser extends EmbeddedActionsParser {
     const operands: Operand[] = [this.SUBRULE(this.operand)];
     const ops: IToken[] = [];
     this.MANY(() => {
-      ops.push(this.OR([
-        { ALT: () => this.CONSUME(T.Or) },
-        { ALT: () => this.CONSUME(T.And) },
-        { ALT: () => this.CONSUME(T.Comparison) },
-        { ALT: () => this.CONSUME(T.AddOp) },
-        { ALT: () => this.CONSUME(T.MulOp) },
-      ]));
+      ops.push(this.CONSUME(T.BinaryOp));
       operands.push(this.SUBRULE2(this.operand));
     });
     return this.ACTION(() => this.climbAll(operands, ops));
@@ -330,10 +324,7 @@ class FluxelParser extends EmbeddedActionsParser {
   operand = this.RULE('operand', (): Operand => {
     const prefixes: IToken[] = [];
     this.MANY(() => {
-      prefixes.push(this.OR([
-        { ALT: () => this.CONSUME(T.Not) },
-        { ALT: () => this.CONSUME(T.AddOp) },
-      ]));
+      prefixes.push(this.CONSUME(T.PrefixOp));
     });
     const base = this.SUBRULE(this.power);
     return { prefixes, base };
@@ -548,7 +539,7 @@ const TOKEN_WORDS: Record<string, string> = {
   Identifier: 'a name', NumberLit: 'a number', GridDims: '`1d` or `2d`', Equals: '`=`', Prime: '`\'`',
   LParen: '`(`', RParen: '`)`', LBracket: '`[`', RBracket: '`]`', LBrace: '`{`', RBrace: '`}`', Comma: '`,`', Colon: '`:`',
   AddOp: '`+` or `-`', MulOp: '`*` or `/`', Caret: '`^`', Comparison: 'a comparison', In: '`in`', Then: '`then`', Else: '`else`',
-  Reflect: '`reflect`', Periodic: '`periodic`', Fixed: '`fixed`', ImageKw: '`image`', EOF: 'the end of the declaration',
+  Reflect: '`reflect`', Periodic: '`periodic`', Fixed: '`fixed`', ImageKw: '`image`', EOF: 'the end of the declaration', BinaryOp: 'an operator', PrefixOp: '`not` or a sign',
 };
 
 /** Our own wording for chevrotain's recognition errors: what was found, and what would fit. */

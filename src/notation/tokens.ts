@@ -10,9 +10,13 @@ export const Comment = createToken({ name: 'Comment', pattern: /#[^\n\r]*/, grou
 
 export const Identifier = createToken({ name: 'Identifier', pattern: /[A-Za-z_][A-Za-z0-9_]*/ });
 
-function keyword(name: string, word: string): TokenType {
-  return createToken({ name, pattern: new RegExp(word), longer_alt: Identifier });
+function keyword(name: string, word: string, categories: TokenType[] = []): TokenType {
+  return createToken({ name, pattern: new RegExp(word), longer_alt: Identifier, categories });
 }
+
+/** Every binary operator but `^`, and every prefix operator: the parser reads each with one CONSUME (see parser.ts). */
+export const BinaryOp = createToken({ name: 'BinaryOp', pattern: Lexer.NA });
+export const PrefixOp = createToken({ name: 'PrefixOp', pattern: Lexer.NA });
 
 export const Grid = keyword('Grid', 'grid');
 export const Spacing = keyword('Spacing', 'spacing');
@@ -36,9 +40,9 @@ export const If = keyword('If', 'if');
 export const Then = keyword('Then', 'then');
 export const Else = keyword('Else', 'else');
 export const Sum = keyword('Sum', 'sum');
-export const And = keyword('And', 'and');
-export const Or = keyword('Or', 'or');
-export const Not = keyword('Not', 'not');
+export const And = keyword('And', 'and', [BinaryOp]);
+export const Or = keyword('Or', 'or', [BinaryOp]);
+export const Not = keyword('Not', 'not', [PrefixOp]);
 // `max` and `min` are keywords so that `max n in S: ...` (a reduction) and `max(a, b)` (a call) part on the next token.
 export const MaxKw = keyword('MaxKw', 'max');
 export const MinKw = keyword('MinKw', 'min');
@@ -47,7 +51,7 @@ export const MinKw = keyword('MinKw', 'min');
 export const GridDims = createToken({ name: 'GridDims', pattern: /[0-9]+d(?![A-Za-z0-9_])/ });
 export const NumberLit = createToken({ name: 'NumberLit', pattern: /(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?/ });
 
-export const Comparison = createToken({ name: 'Comparison', pattern: Lexer.NA });
+export const Comparison = createToken({ name: 'Comparison', pattern: Lexer.NA, categories: [BinaryOp] });
 export const LessEq = createToken({ name: 'LessEq', pattern: /<=/, categories: Comparison });
 export const GreaterEq = createToken({ name: 'GreaterEq', pattern: /\>=/, categories: Comparison });
 export const EqEq = createToken({ name: 'EqEq', pattern: /==/, categories: Comparison });
@@ -55,10 +59,10 @@ export const NotEq = createToken({ name: 'NotEq', pattern: /!=/, categories: Com
 export const Less = createToken({ name: 'Less', pattern: /</, categories: Comparison });
 export const Greater = createToken({ name: 'Greater', pattern: />/, categories: Comparison });
 
-export const AddOp = createToken({ name: 'AddOp', pattern: Lexer.NA });
+export const AddOp = createToken({ name: 'AddOp', pattern: Lexer.NA, categories: [BinaryOp, PrefixOp] });
 export const Plus = createToken({ name: 'Plus', pattern: /\+/, categories: AddOp });
 export const Minus = createToken({ name: 'Minus', pattern: /-/, categories: AddOp });
-export const MulOp = createToken({ name: 'MulOp', pattern: Lexer.NA });
+export const MulOp = createToken({ name: 'MulOp', pattern: Lexer.NA, categories: [BinaryOp] });
 export const Star = createToken({ name: 'Star', pattern: /\*/, categories: MulOp });
 export const Slash = createToken({ name: 'Slash', pattern: /\//, categories: MulOp });
 export const Caret = createToken({ name: 'Caret', pattern: /\^/ });
@@ -82,7 +86,7 @@ export const allTokens: TokenType[] = [
   Identifier,
   GridDims, NumberLit,
   LessEq, GreaterEq, EqEq, NotEq, Less, Greater, Comparison,
-  Plus, Minus, AddOp, Star, Slash, MulOp, Caret,
+  Plus, Minus, AddOp, Star, Slash, MulOp, Caret, BinaryOp, PrefixOp,
   Equals, Prime, LParen, RParen, LBracket, RBracket, LBrace, RBrace, Comma, Colon,
 ];
 
