@@ -6,7 +6,7 @@ import { createHash } from 'node:crypto';
 import { promises as fs } from 'node:fs';
 import * as path from 'node:path';
 import { formatFromExtension } from '../images/codec';
-import { readImageFile, writeImageFile } from '../images/files';
+import { readImageFile, writeFileAtomically, writeImageFile } from '../images/files';
 import { makeScene } from '../images/scenes';
 import { ImageError, type GreyImage } from '../images/types';
 import { parseAndCheck } from '../notation';
@@ -55,17 +55,8 @@ function whole(text: string, what: string, min: number): number {
 
 const jsonRange = (r: SourceRange) => ({ start: { line: r.start.line, column: r.start.column }, end: { line: r.end.line, column: r.end.column } });
 
-/** Writes text to a temporary file beside `file` and renames it over, so `file` is replaced only on success. */
-async function writeAtomically(file: string, text: string): Promise<void> {
-  const tmp = path.join(path.dirname(file), `.${path.basename(file)}.${process.pid}.tmp`);
-  try {
-    await fs.writeFile(tmp, text);
-    await fs.rename(tmp, file);
-  } catch (err) {
-    await fs.rm(tmp, { force: true });
-    throw err;
-  }
-}
+/** The stats file, like the image, replaces an existing file only once complete. */
+const writeAtomically = writeFileAtomically;
 
 export function runMain(argv: string[]): Promise<number> {
   return guard('run', async () => {
@@ -168,7 +159,10 @@ export function runMain(argv: string[]): Promise<number> {
         image, reference, params, dt, steps, every,
         width: size?.width, height: size?.height,
         dtype: o.float64 ? 'float64' : 'float32',
-        monitors: { extremumCheck: o['extremum-check'] ?? false },
+        // SSIM only where a clean reference exists, once per recorded frame (not per step).
+        ssim: reference !== null,
+        // The analysis decides whether the new-extremum monitor applies (numerics.md, "Monitors"); the flag forces it.
+        monitors: { extremumCheck: o['extremum-check'] ? true : 'auto' },
       });
     } catch (err) {
       if (err instanceof EngineError) {

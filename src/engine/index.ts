@@ -4,7 +4,8 @@
 
 export type { CompiledScheme, DType, FieldArray, FieldStats, FrameStats, Geometry, KernelBackend, KernelContext, RunWarning, WarningKind } from './types';
 export { JsBackend, jsBackend } from './jsBackend';
-export { createRun, Run } from './run';
+export { createRun, middleRow, Run } from './run';
+export { extremumPrinciple, type ExtremumDecision } from './monitorPolicy';
 export type { Frame, MonitorOptions, RunCallbacks, RunImage, RunOptions, RunResult, RunStatus } from './run';
 export { EngineError, planHalo, canonicalScheme, hashText } from './plan';
 export { foldIndex, makeGeometry, planGhosts, fillGhosts } from './boundary';

@@ -4,11 +4,13 @@
 
 import ndarray from 'ndarray';
 import type { NdArray } from 'ndarray';
+import type { StabilityReport } from '../analysis/stability';
 import { psnr as psnrOf, ssim as ssimOf } from '../analysis/metrics';
 import type { CheckedScheme } from '../notation/scheme';
 import { fillGhosts, makeGeometry, planGhosts, readInterior, writeInterior, type GhostPlan } from './boundary';
 import { blurInto, gaussianTaps } from './blur';
 import { jsBackend } from './jsBackend';
+import { extremumPrinciple, type ExtremumDecision } from './monitorPolicy';
 import { EngineError, planHalo, type HaloPlan } from './plan';
 import type {
   CompiledScheme, DType, FieldArray, FieldStats, FrameStats, Geometry, KernelBackend, KernelContext, RunWarning, WarningKind,
@@ -22,8 +24,13 @@ export interface RunImage {
 }
 
 export interface MonitorOptions {
-  /** Set only for schemes the analysis classes as extremum-principle schemes (non-negative weights summing to 1). */
-  readonly extremumCheck?: boolean;
+  /**
+   * The new-extremum monitor. 'auto' (the default) lets the analysis decide: on for schemes whose frozen weights
+   * are non-negative and sum to 1 with no source (monitorPolicy.ts); true or false force it.
+   */
+  readonly extremumCheck?: boolean | 'auto';
+  /** A stability report the caller already has (analyseStability), so 'auto' does not analyse the scheme again. */
+  readonly stability?: StabilityReport;
   /** Initial data range for the extremum check; by default the range of the initial fields (and fixed boundary values). */
   readonly initialMin?: number;
   readonly initialMax?: number;
@@ -94,6 +101,15 @@ function ulpOf(x: number, dtype: DType): number {
   return 2 ** Math.floor(Math.log2(a)) * eps;
 }
 
+/** The row a 1d scheme runs on: row ⌊height/2⌋, the same row the stability analysis uses (stabilityState.ts). */
+export function middleRow(img: RunImage): RunImage {
+  if (img.height === 1) return img;
+  const row = Math.floor(img.height / 2);
+  const data = new Float64Array(img.width);
+  for (let x = 0; x < img.width; x++) data[x] = img.data[row * img.width + x];
+  return { width: img.width, height: 1, data };
+}
+
 function nowSeconds(): number {
   return performance.now() / 1000;
 }
@@ -124,6 +140,8 @@ export class Run {
   private readonly wantSsim: boolean;
   private readonly primary: number;
   private readonly extremum: { lo: number; hi: number } | null;
+  /** Whether the new-extremum monitor runs, and why (from the analysis unless the caller forced it). */
+  readonly extremumDecision: ExtremumDecision;
   private readonly growthBound: number;
   private readonly warned = new Set<string>();
   private best: { step: number; psnr: number } | undefined;
@@ -149,15 +167,17 @@ export class Run {
     this.steps = opts.steps ?? defaultSteps;
     if (!Number.isInteger(this.steps) || this.steps < 0) throw new EngineError('steps must be a whole number ≥ 0');
 
-    const image = opts.image ?? null;
+    const given = opts.image ?? null;
     const needsImage = scheme.fields.some(f => f.init.kind === 'image');
-    if (needsImage && !image) throw new EngineError('this scheme has a field initialised from an image, but no image was given');
+    if (needsImage && !given) throw new EngineError('this scheme has a field initialised from an image, but no image was given');
+    if (given && given.data.length !== given.width * given.height) throw new EngineError('the image data does not match its size');
+    // In 1d the field is a single row: an image contributes its middle row, as the analysis assumes (contracts, issue 2).
+    const image = given && scheme.dims === 1 ? middleRow(given) : given;
     const width = image ? image.width : opts.width ?? (scheme.dims === 2 ? 64 : 256);
-    const height = image ? image.height : opts.height ?? (scheme.dims === 2 ? 64 : 1);
+    const height = image ? image.height : scheme.dims === 1 ? 1 : opts.height ?? 64;
     if (!(Number.isInteger(width) && Number.isInteger(height) && width >= 1 && height >= 1)) {
       throw new EngineError(`the grid must be at least 1×1 pixels, got ${width}×${height}`);
     }
-    if (image && image.data.length !== width * height) throw new EngineError('the image data does not match its size');
 
     this.halo = planHalo(scheme, values, this.dt);
     const g = makeGeometry(width, height, this.halo.halo, scheme.dims);
@@ -205,7 +225,11 @@ export class Run {
       }
     });
     const m = opts.monitors ?? {};
-    if (m.extremumCheck) {
+    const wantExtremum = m.extremumCheck ?? 'auto';
+    this.extremumDecision = wantExtremum === 'auto'
+      ? extremumPrinciple(scheme, m.stability)
+      : { applies: wantExtremum, reason: wantExtremum ? 'forced on by the caller' : 'turned off by the caller' };
+    if (this.extremumDecision.applies) {
       const l = m.initialMin ?? lo, h = m.initialMax ?? hi;
       // Rounding may overshoot by an ulp or two; 4 ulps of the data range is the agreed slack (numerics.md, "Monitors").
       const tol = 4 * ulpOf(Math.max(Math.abs(l), Math.abs(h)), this.dtype);
@@ -214,7 +238,8 @@ export class Run {
     this.growthBound = m.growthBound ?? (m.growthFactor ?? 1e3) * Math.max(1, maxAbs);
 
     this.every = Math.max(0, Math.floor(opts.every ?? 0));
-    this.reference = opts.reference ?? null;
+    const ref = opts.reference ?? null;
+    this.reference = ref && scheme.dims === 1 && given && ref.width === given.width && ref.height === given.height ? middleRow(ref) : ref;
     if (this.reference && (this.reference.width !== width || this.reference.height !== height)) {
       throw new EngineError('the reference image must have the size of the grid');
     }

@@ -1,4 +1,4 @@
-// Runner semantics: lets on the extended grid, primed reads, constant fields, coordinates, time, 1d rows, tiny images.
+// Runner semantics: lets on the extended grid, primed reads, constant fields, coordinates, time, 1d middle row, tiny images.
 import { describe, expect, it } from 'vitest';
 import { createRun } from '../../../src/engine/run';
 import { expectClose, randomImage, schemeOf } from './util';
@@ -54,14 +54,24 @@ describe('updates', () => {
 });
 
 describe('grid shapes', () => {
-  it('a 1d scheme treats every row on its own', () => {
+  it('a 1d scheme on a 2d image runs on its middle row (contracts: issue 2), as the analysis does', () => {
+    // Rows 0..4 differ; the middle row is row ⌊5/2⌋ = 2 (src/analysis/stabilityState.ts uses the same row).
     const s = schemeOf(`grid 1d\nboundary reflect\nstep dt = 0.25\nsteps 7\nfield u = image\nu' = u + dt * sum n in N2: u[n] - u\n`);
-    const a = randomImage(9, 1, 5), b = randomImage(9, 1, 6);
-    const both = { width: 9, height: 2, data: Float64Array.from([...a.data, ...b.data]) };
-    const ra = createRun(s, { image: a, dtype: 'float64' }); ra.runSync();
-    const rb = createRun(s, { image: b, dtype: 'float64' }); rb.runSync();
-    const r2 = createRun(s, { image: both, dtype: 'float64' }); r2.runSync();
-    expectClose(r2.fieldData(0), [...ra.fieldData(0), ...rb.fieldData(0)], 0, 'two rows vs two separate runs');
+    const rows = [0, 1, 2, 3, 4].map(k => randomImage(9, 1, 5 + k));
+    const tall = { width: 9, height: 5, data: Float64Array.from(rows.flatMap(r => Array.from(r.data))) };
+    const one = createRun(s, { image: rows[2], dtype: 'float64' }); one.runSync();
+    const run = createRun(s, { image: tall, dtype: 'float64' }); run.runSync();
+    expect([run.geometry.width, run.geometry.height], 'the output is one row').toEqual([9, 1]);
+    expectClose(run.fieldData(0), one.fieldData(0), 0, 'tall image vs its middle row alone');
+    // Hand check of one step on the middle row with reflect ghosts: u' = u + dt (u[x-1] - 2u + u[x+1]).
+    const m = rows[2].data, first = createRun(s, { image: tall, dtype: 'float64', steps: 1 });
+    first.runSync();
+    const want = Array.from(m, (v, x) => v + 0.25 * (m[Math.max(0, x - 1)] - 2 * v + m[Math.min(8, x + 1)]));
+    expectClose(first.fieldData(0), want, 1e-15, 'one step by hand');
+    // An even height takes the lower of the two middle rows, ⌊4/2⌋ = 2.
+    const even = { width: 9, height: 4, data: tall.data.slice(0, 36) };
+    const e = createRun(s, { image: even, dtype: 'float64' }); e.runSync();
+    expectClose(e.fieldData(0), one.fieldData(0), 0, 'height 4 uses row 2');
   });
 
   it('a 2d scheme runs on 1×1, 4×1 and 1×N images (contracts §2)', () => {
