@@ -1,0 +1,86 @@
+// One tuning evaluation: run a scheme with one setting (parameter values, dt) and measure PSNR or SSIM of the
+// picture field against the clean reference after every step. The unit of work of sweeps, fits and their workers.
+// Imports the engine and the metrics only; must not import Node modules, vscode or the DOM (it runs in workers).
+
+import { psnr, ssim, SSIM_WINDOW, type MetricImage } from '../analysis/metrics';
+import { createRun, type RunImage } from '../engine';
+import type { CheckedScheme } from '../notation/scheme';
+
+export type MetricName = 'psnr' | 'ssim';
+export const METRICS: readonly MetricName[] = ['psnr', 'ssim'];
+
+/** Parameter values by name; the name `dt` sets the step size. */
+export type Setting = Readonly<Record<string, number>>;
+
+export interface Curve {
+  /** Metric at steps 0..steps (index = step); NaN after a blow-up. */
+  readonly values: Float64Array;
+  /** The step with the largest metric (earliest on ties), -1 when no step has a number. */
+  readonly bestStep: number;
+  readonly best: number;
+  readonly status: 'done' | 'blow-up';
+}
+
+export interface EvaluationTask {
+  readonly image: RunImage;
+  readonly reference: RunImage;
+  readonly steps: number;
+  readonly metric: MetricName;
+  readonly dtype?: 'float32' | 'float64';
+}
+
+/** The field a metric is measured on: the first `image` field, else the first updated field (as in `fluxel run`). */
+export function pictureField(scheme: CheckedScheme): number {
+  const img = scheme.fields.findIndex((f) => f.init.kind === 'image');
+  return img >= 0 ? img : Math.max(0, scheme.fields.findIndex((f) => f.updated));
+}
+
+/** A metric function with the reference converted to Float64 once. Throws for SSIM on images under 11×11. */
+export function metricAgainst(reference: RunImage, metric: MetricName): (data: Float32Array | Float64Array) => number {
+  const ref: MetricImage = { width: reference.width, height: reference.height, data: Float64Array.from(reference.data) };
+  if (metric === 'ssim' && (ref.width < SSIM_WINDOW || ref.height < SSIM_WINDOW)) {
+    throw new Error(`SSIM needs at least ${SSIM_WINDOW}×${SSIM_WINDOW} pixels; the image is ${ref.width}×${ref.height}. Use --metric psnr or a larger image.`);
+  }
+  const f = metric === 'psnr' ? psnr : ssim;
+  return (data) => f(ref, { width: ref.width, height: ref.height, data });
+}
+
+/** Index and value of the largest number in `values`, earliest on ties; NaN entries are skipped. */
+export function argBest(values: ArrayLike<number>): { step: number; value: number } {
+  let step = -1;
+  let value = Number.NaN;
+  for (let i = 0; i < values.length; i++) {
+    const v = values[i];
+    if (v === v && (step < 0 || v > value)) {
+      step = i;
+      value = v;
+    }
+  }
+  return { step, value };
+}
+
+/** Runs one setting and returns the metric curve over every step (step 0 is the noisy input itself). */
+export function evaluateSetting(scheme: CheckedScheme, task: EvaluationTask, setting: Setting): Curve {
+  const params: Record<string, number> = {};
+  let dt: number | undefined;
+  for (const [name, v] of Object.entries(setting)) {
+    if (name === 'dt') dt = v;
+    else params[name] = v;
+  }
+  const run = createRun(scheme, { image: task.image, params, dt, steps: task.steps, dtype: task.dtype ?? 'float32' });
+  const k = pictureField(scheme);
+  const measure = metricAgainst(task.reference, task.metric);
+  const values = new Float64Array(task.steps + 1).fill(Number.NaN);
+  values[0] = measure(run.fieldData(k));
+  let status: Curve['status'] = 'done';
+  for (let s = 1; s <= task.steps; s++) {
+    run.step();
+    if (run.status === 'blow-up') {
+      status = 'blow-up';
+      break;
+    }
+    values[s] = measure(run.fieldData(k));
+  }
+  const b = argBest(values);
+  return { values, bestStep: b.step, best: b.value, status };
+}

@@ -1,0 +1,46 @@
+// Messages between the tuning pool and its worker threads: discriminated unions on `type`. Types only.
+// A pool sends one `setup` per job list (scheme source text, pictures, steps, metric), then `eval` messages.
+// Must not import vscode or the DOM.
+
+import type { RunImage } from '../engine';
+import type { MetricName, Setting } from './evaluate';
+
+export interface Picture {
+  readonly width: number;
+  readonly height: number;
+  readonly data: Float32Array;
+}
+
+export namespace ToTuneWorker {
+  export interface Setup {
+    readonly type: 'setup';
+    /** The scheme as source text: each worker parses and checks it itself (no code crosses threads). */
+    readonly source: string;
+    readonly image: Picture;
+    readonly reference: Picture;
+    readonly steps: number;
+    readonly metric: MetricName;
+    readonly dtype: 'float32' | 'float64';
+  }
+  export interface Eval {
+    readonly type: 'eval';
+    readonly id: number;
+    readonly setting: Setting;
+  }
+  export type Type = Setup | Eval;
+}
+
+export namespace FromTuneWorker {
+  export interface Result {
+    readonly type: 'result';
+    readonly id: number;
+    readonly values: Float64Array;
+    readonly bestStep: number;
+    readonly best: number;
+    readonly status: 'done' | 'blow-up';
+  }
+  export interface Failed { readonly type: 'error'; readonly id: number; readonly message: string }
+  export type Type = Result | Failed;
+}
+
+export type { RunImage };

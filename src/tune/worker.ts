@@ -1,0 +1,40 @@
+// Entry point of a tuning worker thread (bundled as dist/tune-worker.js): re-creates the scheme from its source
+// text on `setup`, then answers each `eval` with the metric curve of one setting (src/tune/evaluate.ts).
+// Must not import vscode or the DOM.
+
+import { parentPort } from 'node:worker_threads';
+import { parseAndCheck } from '../notation/index';
+import type { CheckedScheme } from '../notation/scheme';
+import { evaluateSetting, type EvaluationTask } from './evaluate';
+import type { FromTuneWorker, ToTuneWorker } from './protocol';
+
+let current: { scheme: CheckedScheme; task: EvaluationTask } | { error: string } | null = null;
+
+function setup(msg: ToTuneWorker.Setup): void {
+  const checked = parseAndCheck(msg.source);
+  if (!checked.scheme) {
+    const first = checked.diagnostics.find((d) => d.severity === 'error');
+    current = { error: first ? `${first.range.start.line}:${first.range.start.column}: ${first.message}` : 'the scheme has errors' };
+    return;
+  }
+  current = { scheme: checked.scheme, task: { image: msg.image, reference: msg.reference, steps: msg.steps, metric: msg.metric, dtype: msg.dtype } };
+}
+
+function evaluate(msg: ToTuneWorker.Eval): FromTuneWorker.Type {
+  try {
+    if (!current) throw new Error('tuning worker: eval before setup');
+    if ('error' in current) throw new Error(current.error);
+    const c = evaluateSetting(current.scheme, current.task, msg.setting);
+    return { type: 'result', id: msg.id, values: c.values, bestStep: c.bestStep, best: c.best, status: c.status };
+  } catch (err) {
+    return { type: 'error', id: msg.id, message: err instanceof Error ? err.message : String(err) };
+  }
+}
+
+parentPort?.on('message', (msg: ToTuneWorker.Type) => {
+  if (msg.type === 'setup') setup(msg);
+  else if (msg.type === 'eval') {
+    const reply = evaluate(msg);
+    parentPort?.postMessage(reply, reply.type === 'result' ? [reply.values.buffer as ArrayBuffer] : []);
+  }
+});
