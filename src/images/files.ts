@@ -29,11 +29,19 @@ export async function writeImageFile(filePath: string, image: GreyImage, opts: E
   if (format === null) {
     throw new ImageError('bad-option', `${filePath}: cannot tell the output format; use .png, .pgm, .pfm, .tif or .tiff`);
   }
-  const bytes = encodeImage(image, format, opts);
+  await writeFileAtomically(filePath, encodeImage(image, format, opts));
+}
+
+/**
+ * Writes bytes or text to a temporary file beside `filePath` and renames it over the target, so an existing file
+ * is replaced only once the new content is complete. Missing parent folders are created (that destroys nothing).
+ */
+export async function writeFileAtomically(filePath: string, data: Uint8Array | string): Promise<void> {
   const dir = path.dirname(filePath);
+  await fs.mkdir(dir, { recursive: true });
   const tmp = path.join(dir, `.${path.basename(filePath)}.${process.pid}.${Date.now().toString(36)}.tmp`);
   try {
-    await fs.writeFile(tmp, bytes);
+    await fs.writeFile(tmp, data);
     await fs.rename(tmp, filePath);
   } catch (e) {
     await fs.rm(tmp, { force: true });
