@@ -9,7 +9,7 @@ import { SchemeEvaluator, decodeKey, type DiffusivityMode, type FieldReader } fr
 import { boundFunction, fluxPeak, scalarFunction, intervalOf, negativeRanges, type Interval, type IntervalEnv } from './stabilityBounds';
 import { fieldRanges, gridReader, initialState, randomReader, type FieldState, type GreyImage } from './stabilityState';
 import {
-  buildDtModel, positivityLimit, vonNeumann,
+  buildDtModel, isIdentity, positivityLimit, vonNeumann,
   type DtModel, type MatrixEntry, type MatrixStencil, type VonNeumannResult,
 } from './stabilityVonNeumann';
 
@@ -300,7 +300,8 @@ function linearised(scheme: CheckedScheme, ev: SchemeEvaluator, state: FieldStat
   const perHalf = scheme.dims === 1 ? 32 : 8;
   // Whether the weights are affine in dt is a property of the scheme's shape: decide it once, at the first pixel.
   const first = buildDtModel(n, (d) => matrixAt(ev, read, pixels[0][0], pixels[0][1], d, t, { kind: 'full' }), dtRef);
-  const affineInDt = first.poly !== null && first.poly.length <= 2;
+  // With W = I + dt·M (the usual explicit form) one evaluation per pixel gives M = (W(dtRef) − I)/dtRef.
+  const affineInDt = first.poly !== null && first.poly.length <= 2 && isIdentity(first.poly[0]);
   const cache = new Map<string, { limit: number }>();
   const diffusionCache = new Map<string, number>();
   let best: { limit: number; x: number; y: number; model: DtModel } | null = null;
@@ -309,15 +310,12 @@ function linearised(scheme: CheckedScheme, ev: SchemeEvaluator, state: FieldStat
     let model: DtModel;
     if (affineInDt) {
       const w1 = matrixAt(ev, read, x, y, dtRef, t, { kind: 'full' });
-      const w2 = matrixAt(ev, read, x, y, 2 * dtRef, t, { kind: 'full' });
-      const m = new Map<string, MatrixEntry>();
-      for (const e of w1.entries) m.set(`${e.i},${e.j},${e.dx},${e.dy}`, { ...e, w: -e.w / dtRef });
-      for (const e of w2.entries) {
-        const k = `${e.i},${e.j},${e.dx},${e.dy}`;
-        const z = m.get(k);
-        m.set(k, { ...e, w: (z?.w ?? 0) + e.w / dtRef });
+      const entries: MatrixEntry[] = [];
+      for (const e of w1.entries) {
+        const w = (e.w - (e.i === e.j && e.dx === 0 && e.dy === 0 ? 1 : 0)) / dtRef;
+        if (w !== 0) entries.push({ ...e, w });
       }
-      model = affineModel(n, { n, entries: [...m.values()].filter((e) => e.w !== 0) });
+      model = affineModel(n, { n, entries });
     } else {
       model = buildDtModel(n, (d) => matrixAt(ev, read, x, y, d, t, { kind: 'full' }), dtRef);
     }
@@ -339,7 +337,12 @@ function linearised(scheme: CheckedScheme, ev: SchemeEvaluator, state: FieldStat
     if (!best || hit.limit < best.limit) best = { limit: hit.limit, x, y, model };
   }
   if (!best) return { best: null, diffusion };
-  // Redo the worst pixel on the fine frequency grid with refinement.
+  // Redo the worst pixel on the fine frequency grid with refinement, with its full dt model: a pixel whose
+  // weights are not I + dt·M after all (a branch taken only there) is then still analysed correctly.
+  if (affineInDt) {
+    const full = buildDtModel(n, (d) => matrixAt(ev, read, best!.x, best!.y, d, t, { kind: 'full' }), dtRef);
+    if (finiteStencil(full.rate)) best = { ...best, model: full };
+  }
   const vn = vonNeumann(best.model, scheme.dims, dtRef);
   const dl = vonNeumann(affineModel(n, diffusionPart(best.model.rate)), scheme.dims, dtRef).limit;
   if (Number.isFinite(dl)) diffusion = diffusion === null ? dl : Math.min(diffusion, dl);

@@ -166,7 +166,8 @@ export interface VonNeumannResult {
   readonly closedForm: boolean;
 }
 
-function isIdentity(w: MatrixStencil): boolean {
+/** True when the stencil is exactly the identity on every field (offset 0, weight 1, nothing else). */
+export function isIdentity(w: MatrixStencil): boolean {
   const acc = new Map<string, number>();
   for (const e of w.entries) acc.set(entryKey(e), (acc.get(entryKey(e)) ?? 0) + e.w);
   for (const [k, v] of acc) {
@@ -180,37 +181,233 @@ function isIdentity(w: MatrixStencil): boolean {
 }
 
 /**
+ * The frequency grid of thetaGrid with conjugate pairs folded and phase factors cached. Weights are real, so
+ * G(−θ) is the complex conjugate of G(θ) and has the same eigenvalue moduli: only one of θ, −θ is scanned.
+ * −π and π are the same frequency on an integer grid, so each axis holds the 2·perHalf values in (−π, π].
+ */
+interface FreqGrid {
+  readonly dims: 1 | 2;
+  readonly perHalf: number;
+  /** Axis values θ_k = π·k/perHalf for k = −perHalf+1..perHalf, at index k + perHalf − 1. */
+  readonly axis: Float64Array;
+  /** Representatives: axis indices per frequency, their θ, and 1 or 2 (a frequency and its mirror). */
+  readonly ix: Int32Array;
+  readonly iy: Int32Array;
+  readonly thetas: number[][];
+  readonly mult: Uint8Array;
+  /** cos(o·θ_k), sin(o·θ_k) for |o| ≤ reach, at (o + reach)·axis.length + k; grown on demand. */
+  reach: number;
+  cos: Float64Array;
+  sin: Float64Array;
+}
+
+const GRIDS = new Map<string, FreqGrid>();
+
+function freqGrid(dims: 1 | 2, perHalf: number): FreqGrid {
+  const key = `${dims}:${perHalf}`;
+  const hit = GRIDS.get(key);
+  if (hit) return hit;
+  const A = 2 * perHalf;
+  const axis = new Float64Array(A);
+  for (let k = -perHalf + 1; k <= perHalf; k++) axis[k + perHalf - 1] = (Math.PI * k) / perHalf;
+  // The mirror of axis index k (value k − perHalf + 1) is −value, with −perHalf wrapped to perHalf.
+  const mirror = (i: number): number => {
+    const v = i - perHalf + 1;
+    const m = v === perHalf ? perHalf : -v;
+    return m + perHalf - 1;
+  };
+  const ix: number[] = [];
+  const iy: number[] = [];
+  const mult: number[] = [];
+  const ys = dims === 2 ? A : 1;
+  for (let b = 0; b < ys; b++) {
+    for (let a = 0; a < A; a++) {
+      const ma = mirror(a);
+      const mb = dims === 2 ? mirror(b) : 0;
+      const self = a * ys + b;
+      const other = ma * ys + mb;
+      if (other < self) continue;
+      ix.push(a);
+      iy.push(b);
+      mult.push(other === self ? 1 : 2);
+    }
+  }
+  const g: FreqGrid = {
+    dims, perHalf, axis,
+    ix: Int32Array.from(ix), iy: Int32Array.from(iy), mult: Uint8Array.from(mult),
+    thetas: ix.map((a, k) => (dims === 2 ? [axis[a], axis[iy[k]]] : [axis[a]])),
+    reach: -1, cos: new Float64Array(0), sin: new Float64Array(0),
+  };
+  GRIDS.set(key, g);
+  return g;
+}
+
+function ensureReach(g: FreqGrid, reach: number): void {
+  if (reach <= g.reach) return;
+  const A = g.axis.length;
+  const cos = new Float64Array((2 * reach + 1) * A);
+  const sin = new Float64Array((2 * reach + 1) * A);
+  for (let o = -reach; o <= reach; o++) {
+    for (let k = 0; k < A; k++) {
+      cos[(o + reach) * A + k] = Math.cos(o * g.axis[k]);
+      sin[(o + reach) * A + k] = Math.sin(o * g.axis[k]);
+    }
+  }
+  g.reach = reach;
+  g.cos = cos;
+  g.sin = sin;
+}
+
+/** Symbols of `w` at every representative frequency: re/im at f·n² + i·n + j (allocation-free inner loop). */
+function symbolTable(w: MatrixStencil, g: FreqGrid, out?: { re: Float64Array; im: Float64Array }): { re: Float64Array; im: Float64Array } {
+  const n2 = w.n * w.n;
+  const F = g.ix.length;
+  const re = out?.re ?? new Float64Array(F * n2);
+  const im = out?.im ?? new Float64Array(F * n2);
+  re.fill(0);
+  im.fill(0);
+  let reach = 0;
+  for (const e of w.entries) reach = Math.max(reach, Math.abs(e.dx), Math.abs(e.dy));
+  ensureReach(g, reach);
+  const A = g.axis.length;
+  const R = g.reach;
+  const { cos, sin, ix, iy } = g;
+  for (const e of w.entries) {
+    const k = e.i * w.n + e.j;
+    const bx = (e.dx + R) * A;
+    const by = (e.dy + R) * A;
+    const wv = e.w;
+    if (g.dims === 1 || e.dy === 0) {
+      for (let f = 0; f < F; f++) {
+        re[f * n2 + k] += wv * cos[bx + ix[f]];
+        im[f * n2 + k] += wv * sin[bx + ix[f]];
+      }
+    } else {
+      // e^{i(a+b)} = (cos a cos b − sin a sin b) + i (sin a cos b + cos a sin b).
+      for (let f = 0; f < F; f++) {
+        const ca = cos[bx + ix[f]];
+        const sa = sin[bx + ix[f]];
+        const cb = cos[by + iy[f]];
+        const sb = sin[by + iy[f]];
+        re[f * n2 + k] += wv * (ca * cb - sa * sb);
+        im[f * n2 + k] += wv * (sa * cb + ca * sb);
+      }
+    }
+  }
+  return { re, im };
+}
+
+/**
+ * Eigenvalues of the n×n complex matrix at offset `off` of (re, im), written as pairs into `out`; closed forms
+ * for n ≤ 2 without allocation, the general solver beyond.
+ */
+function eigInto(n: number, re: Float64Array, im: Float64Array, off: number, out: Float64Array, scratch: CMatrix): void {
+  if (n === 1) {
+    out[0] = re[off];
+    out[1] = im[off];
+    return;
+  }
+  if (n === 2) {
+    const ar = re[off], ai = im[off], br = re[off + 1], bi = im[off + 1];
+    const cr = re[off + 2], ci = im[off + 2], dr = re[off + 3], di = im[off + 3];
+    const tr = ar + dr, ti = ai + di;
+    // disc = tr² − 4(ad − bc)
+    const detr = ar * dr - ai * di - (br * cr - bi * ci);
+    const deti = ar * di + ai * dr - (br * ci + bi * cr);
+    // Principal square root of the discriminant, inline (as csqrt) so the hot loop allocates nothing.
+    const qr = tr * tr - ti * ti - 4 * detr;
+    const qi = 2 * tr * ti - 4 * deti;
+    const qm = Math.hypot(qr, qi);
+    let sr = 0;
+    let si = 0;
+    if (qm !== 0) {
+      const a = Math.sqrt((qm + Math.abs(qr)) / 2);
+      if (qr >= 0) { sr = a; si = qi / (2 * a); } else { sr = Math.abs(qi) / (2 * a); si = qi >= 0 ? a : -a; }
+    }
+    out[0] = (tr + sr) / 2;
+    out[1] = (ti + si) / 2;
+    out[2] = (tr - sr) / 2;
+    out[3] = (ti - si) / 2;
+    return;
+  }
+  const n2 = n * n;
+  for (let k = 0; k < n2; k++) {
+    scratch.re[k] = re[off + k];
+    scratch.im[k] = im[off + k];
+  }
+  const ev = eigenvalues(scratch);
+  for (let k = 0; k < n; k++) {
+    out[2 * k] = ev[k][0];
+    out[2 * k + 1] = ev[k][1];
+  }
+}
+
+/** The `skip`-th largest modulus among the n eigenvalue pairs in `ev` (0 = the spectral radius). */
+function modulusRank(ev: Float64Array, n: number, skip: number): number {
+  if (skip >= n) return 0;
+  if (n === 1) return Math.hypot(ev[0], ev[1]);
+  if (n === 2) {
+    const a = Math.hypot(ev[0], ev[1]);
+    const b = Math.hypot(ev[2], ev[3]);
+    return skip === 0 ? Math.max(a, b) : Math.min(a, b);
+  }
+  const mods: number[] = [];
+  for (let k = 0; k < n; k++) mods.push(Math.hypot(ev[2 * k], ev[2 * k + 1]));
+  mods.sort((p, q) => q - p);
+  return mods[skip];
+}
+
+/**
  * Largest dt with every non-growing eigenvalue of G(θ, dt) within 1 + MARGIN, over a grid of θ refined near
  * the worst frequency. When G = I + dt·M exactly, |1 + dt·μ| ≤ 1 gives dt ≤ −2 Re μ / |μ|² per eigenvalue μ
- * of M(θ) (closed form); otherwise bisection on dt.
+ * of M(θ) (closed form); otherwise bisection on dt, with the symbols of the dt-polynomial's coefficients
+ * tabulated once so a bisection step costs a few multiply-adds and one small eigenproblem per frequency.
  */
 export function vonNeumann(model: DtModel, dims: 1 | 2, dtRef: number, perHalf = dims === 1 ? 64 : 16, refineWorst = true): VonNeumannResult {
-  const grid = thetaGrid(dims, perHalf);
+  const g = freqGrid(dims, perHalf);
+  const F = g.ix.length;
+  const n = model.n;
+  const n2 = n * n;
   const step = Math.PI / perHalf;
-  const rs = cmatrix(model.n);
-  const mus = grid.map((th) => eigenvalues(symbol(model.rate, th, rs)));
+  const scratch = cmatrix(n);
+  const ev = new Float64Array(2 * Math.max(n, 1));
+
+  // Eigenvalues μ of M(θ) at every representative frequency, kept for the growth test and the closed form.
+  const M = symbolTable(model.rate, g);
+  const mus = new Float64Array(F * 2 * n);
   let muScale = 0;
-  for (const mu of mus) for (const [a, b] of mu) muScale = Math.max(muScale, Math.hypot(a, b));
+  for (let f = 0; f < F; f++) {
+    eigInto(n, M.re, M.im, f * n2, ev, scratch);
+    for (let k = 0; k < 2 * n; k++) mus[f * 2 * n + k] = ev[k];
+    for (let k = 0; k < n; k++) muScale = Math.max(muScale, Math.hypot(ev[2 * k], ev[2 * k + 1]));
+  }
   const growTol = 1e-10 * Math.max(muScale, 1e-300);
-  let growth: { modes: number; maxRate: number; theta: number[] } | null = null;
-  const growingAt = mus.map((mu, k) => {
+  let growth: GrowthInfo | null = null;
+  const growingAt = new Int32Array(F);
+  for (let f = 0; f < F; f++) {
     let count = 0;
     let rate = -Infinity;
-    for (const [re] of mu) if (re > growTol) { count++; rate = Math.max(rate, re); }
-    if (count > 0) {
-      if (!growth) growth = { modes: 0, maxRate: rate, theta: grid[k] };
-      growth.modes++;
-      if (rate > growth.maxRate) { growth.maxRate = rate; growth.theta = grid[k]; }
+    for (let k = 0; k < n; k++) {
+      const re = mus[f * 2 * n + 2 * k];
+      if (re > growTol) { count++; rate = Math.max(rate, re); }
     }
-    return count;
-  });
+    growingAt[f] = count;
+    if (count > 0) {
+      const gi: { modes: number; maxRate: number; theta: number[] } = growth ?? { modes: 0, maxRate: rate, theta: g.thetas[f] };
+      gi.modes += g.mult[f];
+      if (rate > gi.maxRate) { gi.maxRate = rate; gi.theta = g.thetas[f]; }
+      growth = gi;
+    }
+  }
 
   const affine = model.poly !== null && model.poly.length <= 2 && isIdentity(model.poly[0]);
   if (affine) {
     // The closed-form limit at one frequency from the eigenvalues μ of M(θ); Infinity when none restricts dt.
-    const limitOf = (mu: [number, number][]): number => {
+    const limitOfPairs = (mu: ArrayLike<number>, base: number): number => {
       let lim = Infinity;
-      for (const [re, im] of mu) {
+      for (let k = 0; k < n; k++) {
+        const re = mu[base + 2 * k];
+        const im = mu[base + 2 * k + 1];
         const a = Math.hypot(re, im);
         if (re > growTol || a <= 1e-9 * muScale) continue;
         lim = Math.min(lim, re >= -1e-12 * a ? 0 : (-2 * re) / (a * a));
@@ -218,42 +415,82 @@ export function vonNeumann(model: DtModel, dims: 1 | 2, dtRef: number, perHalf =
       return lim;
     };
     let best = Infinity;
-    let at = grid[0];
-    mus.forEach((mu, k) => {
-      const v = limitOf(mu);
-      if (v < best) { best = v; at = grid[k]; }
-    });
+    let at = g.thetas[0];
+    for (let f = 0; f < F; f++) {
+      const v = limitOfPairs(mus, f * 2 * n);
+      if (v < best) { best = v; at = g.thetas[f]; }
+    }
     if (best === Infinity || !refineWorst) return { limit: best, worstTheta: at, growth, closedForm: true };
-    const r = refine((th) => limitOf(eigenvalues(symbol(model.rate, th, rs))), at, step / 2);
+    const rs = cmatrix(n);
+    const limitAt = (th: number[]): number => {
+      const e = eigenvalues(symbol(model.rate, th, rs));
+      const flat: number[] = [];
+      for (const [a, b] of e) flat.push(a, b);
+      return limitOfPairs(flat, 0);
+    };
+    const r = refine(limitAt, at, step / 2);
     return { limit: Math.min(best, r.value), worstTheta: r.value < best ? r.theta : at, growth, closedForm: true };
   }
 
-  // ρ(dt): the largest modulus among non-growing eigenvalues of G over the frequencies `ths`; the growing ones
-  // (as many as M has at that θ) are taken to be the largest moduli and set aside.
-  const g = cmatrix(model.n);
-  const rhoAt = (w: MatrixStencil, th: number[], growing: number): number => {
-    const mods = eigenvalues(symbol(w, th, g)).map(([a, b]) => Math.hypot(a, b)).sort((a, b) => b - a);
-    return mods[growing] ?? 0;
+  // ρ(dt, θ): the largest modulus among non-growing eigenvalues of G; the growing ones (as many as M has at
+  // that θ) are taken to be the largest moduli and set aside.
+  const tables = model.poly ? model.poly.map((w) => symbolTable(w, g)) : null;
+  const G = { re: new Float64Array(F * n2), im: new Float64Array(F * n2) };
+  let tabledDt = NaN;
+  const tabulate = (dt: number): void => {
+    if (dt === tabledDt) return;
+    tabledDt = dt;
+    if (!tables) {
+      symbolTable(model.at(dt), g, G);
+      return;
+    }
+    G.re.fill(0);
+    G.im.fill(0);
+    let p = 1;
+    for (const t of tables) {
+      for (let k = 0; k < G.re.length; k++) {
+        G.re[k] += p * t.re[k];
+        G.im[k] += p * t.im[k];
+      }
+      p *= dt;
+    }
   };
+  const rhoGrid = (f: number): number => {
+    eigInto(n, G.re, G.im, f * n2, ev, scratch);
+    return modulusRank(ev, n, growingAt[f]);
+  };
+  const rs = cmatrix(n);
+  const gs = cmatrix(n);
   const growingOf = (th: number[]): number => {
     let c = 0;
     for (const [re] of eigenvalues(symbol(model.rate, th, rs))) if (re > growTol) c++;
     return c;
   };
-  let ths = grid;
-  let grow = growingAt;
-  const rho = (dt: number): { value: number; theta: number[] } => {
-    const w = model.at(dt);
-    let best = -1;
-    let at = ths[0];
-    ths.forEach((th, k) => {
-      const v = rhoAt(w, th, grow[k]);
-      if (v > best) { best = v; at = th; }
-    });
-    return { value: best, theta: at };
+  const rhoTheta = (dt: number, th: number[], growing: number): number => {
+    const mods = eigenvalues(symbol(model.at(dt), th, gs)).map(([a, b]) => Math.hypot(a, b)).sort((a, b) => b - a);
+    return mods[growing] ?? 0;
   };
-  const search = (): { limit: number; hi: number } => {
-    const stable = (dt: number): boolean => rho(dt).value <= 1 + MARGIN;
+  // The frequency that failed last is tried first: bisection steps above the limit then stop at once.
+  let lastBad = 0;
+  const stableOnGrid = (dt: number): boolean => {
+    tabulate(dt);
+    if (rhoGrid(lastBad) > 1 + MARGIN) return false;
+    for (let f = 0; f < F; f++) {
+      if (rhoGrid(f) > 1 + MARGIN) { lastBad = f; return false; }
+    }
+    return true;
+  };
+  const worstOnGrid = (dt: number): number[] => {
+    tabulate(dt);
+    let best = -1;
+    let at = 0;
+    for (let f = 0; f < F; f++) {
+      const v = rhoGrid(f);
+      if (v > best) { best = v; at = f; }
+    }
+    return g.thetas[at];
+  };
+  const search = (stable: (dt: number) => boolean): { limit: number; hi: number } => {
     let lo: number;
     let hi: number;
     if (stable(dtRef)) {
@@ -283,19 +520,16 @@ export function vonNeumann(model: DtModel, dims: 1 | 2, dtRef: number, perHalf =
     return { limit: lo, hi };
   };
   // Bisection on the grid, then on the refined worst frequency alone: the limit over both sets is the smaller.
-  const first = search();
+  const first = search(stableOnGrid);
+  const firstWorst = worstOnGrid(first.hi);
   if (!Number.isFinite(first.limit) || first.limit === 0 || !refineWorst) {
-    return { limit: first.limit, worstTheta: rho(first.hi).theta, growth, closedForm: false };
+    return { limit: first.limit, worstTheta: firstWorst, growth, closedForm: false };
   }
-  const w = model.at(first.hi);
-  const r = refine((th) => -rhoAt(w, th, growingOf(th)), rho(first.hi).theta, step / 2);
-  ths = [r.theta];
-  grow = [growingOf(r.theta)];
-  const second = search();
+  const r = refine((th) => -rhoTheta(first.hi, th, growingOf(th)), firstWorst, step / 2);
+  const grow = growingOf(r.theta);
+  const second = search((dt) => rhoTheta(dt, r.theta, grow) <= 1 + MARGIN);
   if (second.limit < first.limit) return { limit: second.limit, worstTheta: r.theta, growth, closedForm: false };
-  ths = grid;
-  grow = growingAt;
-  return { limit: first.limit, worstTheta: rho(first.hi).theta, growth, closedForm: false };
+  return { limit: first.limit, worstTheta: firstWorst, growth, closedForm: false };
 }
 
 /** Smallest t > 0 where p(t) = Σ c_k t^k turns negative (Infinity if never); 0 when negative just after 0. */
@@ -305,8 +539,26 @@ function firstNegative(c: readonly number[], scale: number, dtRef: number): numb
   for (let k = 0; k < c.length; k++) if (Math.abs(c[k]) * Math.pow(dtRef, k) > tol) { low = k; break; }
   if (low < 0) return Infinity;
   if (c[low] < 0) return 0;
-  const deg = c.length - 1;
-  if (deg <= 1) return c[1] < 0 && low === 0 ? -c[0] / c[1] : Infinity;
+  let deg = c.length - 1;
+  while (deg > low && Math.abs(c[deg]) * Math.pow(dtRef, deg) <= tol) deg--;
+  if (deg <= 1) return deg === 1 && c[1] < 0 && low === 0 ? -c[0] / c[1] : Infinity;
+  if (deg === 2) {
+    // c0 + c1 t + c2 t² with c[low] > 0: the smallest positive root, where the sign first turns negative.
+    const [a, b, q] = [c[2], c[1], c[0]];
+    if (low === 2) return Infinity;
+    if (low === 1) return a < 0 ? -b / a : Infinity;
+    const disc = b * b - 4 * a * q;
+    if (disc < 0) return Infinity;
+    // Roots by the cancellation-free form: r1 = (−b − sign(b)√disc)/2a, r2 = q/(a·r1).
+    const sq = Math.sqrt(disc);
+    const m = -0.5 * (b + (b >= 0 ? sq : -sq));
+    const roots = [m / a, m !== 0 ? q / m : Infinity].filter((r) => r > 0 && Number.isFinite(r)).sort((x, y) => x - y);
+    if (a < 0) return roots[0] ?? Infinity;
+    // a > 0: p is negative only between two positive roots; a (near-)double root only touches 0, which the
+    // value at the vertex, within the tolerance, tells more reliably than the sign of a rounded discriminant.
+    if (q - (b * b) / (4 * a) >= -tol) return Infinity;
+    return roots.length === 2 ? roots[0] : Infinity;
+  }
   const p = (t: number): number => { let v = 0; for (let k = deg; k >= 0; k--) v = v * t + c[k]; return v; };
   // Scan a logarithmic grid for the first sign change, then bisect.
   let prev = dtRef * 1e-9;
