@@ -8,7 +8,7 @@
 // expression as a flat list of operands and operators, and precedence climbing (`climb`) builds the tree.
 // The actions only build nodes and ranges; every check lives in checker.ts.
 
-import { EmbeddedActionsParser, type IRecognitionException, type IToken, type TokenType } from 'chevrotain';
+import { EmbeddedActionsParser, type IOrAlt, type IRecognitionException, type IToken, type TokenType } from 'chevrotain';
 import type * as A from './ast';
 import type { Diagnostic } from './diagnostics';
 import { LineIndex } from './lineIndex';
@@ -345,7 +345,10 @@ class FluxelParser extends EmbeddedActionsParser {
     });
   }, { recoveryValueFunc: (e) => this.errorAt(e) });
 
-  primary = this.RULE('primary', (): A.Expr => this.OR([
+  // The alternatives are built once: an inline array of closures would be allocated for every operand.
+  private primaryAlts?: IOrAlt<A.Expr>[];
+
+  primary = this.RULE('primary', (): A.Expr => this.OR(this.primaryAlts ??= [
     { ALT: () => { const t = this.CONSUME(T.NumberLit); return this.ACTION((): A.Expr => ({ kind: 'number', value: Number(t.image), range: this.tr(t) })); } },
     { ALT: () => this.SUBRULE(this.parenExpr) },
     { ALT: () => this.SUBRULE(this.ifExpr) },
@@ -411,9 +414,11 @@ class FluxelParser extends EmbeddedActionsParser {
     ]);
   }, { recoveryValueFunc: (e) => this.errorAt(e) });
 
+  private suffixAlts?: IOrAlt<{ call: { args: A.Expr[]; range: A.SourceRange } | null; prime: IToken | null; offset: A.OffsetLit | null }>[];
+
   nameExpr = this.RULE('nameExpr', (): A.Expr => {
     const id = this.CONSUME(T.Identifier);
-    const suffix = this.OPTION(() => this.OR([
+    const suffix = this.OPTION(() => this.OR(this.suffixAlts ??= [
       { ALT: () => { const c = this.SUBRULE(this.callArgs); return { call: c, prime: null, offset: null }; } },
       { ALT: () => { const o = this.SUBRULE(this.offsetList); return { call: null, prime: null, offset: o }; } },
       {
