@@ -10,6 +10,7 @@ type Command = (argv: string[]) => Promise<number>;
 const COMMANDS: Record<string, { summary: string; load: () => Promise<Command> }> = {
   check: { summary: 'check a scheme: diagnostics and the stability verdict', load: async () => checkMain },
   run: { summary: 'run a scheme on an image or a generated scene and write the result', load: async () => (await import('./run')).runMain },
+  kernel: { summary: 'the weights a pixel is updated with at a step, and the impulse response', load: async () => (await import('./kernel')).kernelMain },
 };
 
 export function registerCommand(name: string, summary: string, load: () => Promise<Command>): void {

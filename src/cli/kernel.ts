@@ -1,0 +1,289 @@
+// `fluxel kernel FILE --at X,Y [...]`: the weights pixel (X, Y) is updated with at step N (the engine advances
+// the full-resolution state N steps, then src/analysis/kernel.ts differentiates one update), printed as a grid by
+// offset with their sum and centre; for linear schemes also the N-step impulse response against √(2t).
+// Node-only front end over src/engine, src/analysis, src/images and src/notation; must not import vscode.
+
+import { promises as fs } from 'node:fs';
+import { impulseResponse, kernelAt, type ImpulseResponse, type KernelWeights } from '../analysis/kernel';
+import { createRun, EngineError, type RunImage } from '../engine';
+import { readImageFile } from '../images/files';
+import { makeScene } from '../images/scenes';
+import { ImageError } from '../images/types';
+import { parseAndCheck } from '../notation';
+import type { CheckedScheme } from '../notation/scheme';
+import { guard, parseCommandLine, UsageError } from './args';
+import { formatDiagnostic } from './check';
+
+const USAGE = [
+  'usage: fluxel kernel FILE --at X,Y [--input PATH [--range LO:HI] | --scene NAME [--noise SIGMA] [--seed N]] [--size WxH]',
+  '                     [--step N] [--field NAME] [--linearised] [--json]',
+  '  The weights of FIELD\' at pixel (X, Y) after N steps (default 0), with diffusivities frozen at that state',
+  '  (--linearised: differentiated too). Without --input or --scene, image fields use the survey scene.',
+  '  In 1d give --at X; an image contributes its middle row. The state is stepped in Float64.',
+].join('\n');
+
+const OPTIONS = {
+  at: { type: 'string' },
+  input: { type: 'string' },
+  range: { type: 'string' },
+  scene: { type: 'string' },
+  noise: { type: 'string' },
+  seed: { type: 'string' },
+  size: { type: 'string' },
+  step: { type: 'string' },
+  field: { type: 'string' },
+  linearised: { type: 'boolean' },
+  linearized: { type: 'boolean' },
+  json: { type: 'boolean' },
+  help: { type: 'boolean', short: 'h' },
+} as const;
+
+function number(text: string, what: string): number {
+  const v = Number(text);
+  if (text.trim() === '' || !Number.isFinite(v)) throw new UsageError(`${what} needs a number, got '${text}'.\n${USAGE}`);
+  return v;
+}
+
+function whole(text: string, what: string, min: number): number {
+  const v = number(text, what);
+  if (!Number.isInteger(v) || v < min) throw new UsageError(`${what} needs a whole number ≥ ${min}, got '${text}'.\n${USAGE}`);
+  return v;
+}
+
+/** Six significant digits, trailing zeros dropped; −0 printed as 0. */
+function fmt(v: number): string {
+  if (Object.is(v, -0) || v === 0) return '0';
+  return Number(v.toPrecision(6)).toString();
+}
+
+/** The result of the command, also its JSON form. */
+export interface KernelReport {
+  readonly file: string;
+  readonly input: string | null;
+  readonly field: string;
+  readonly at: { readonly x: number; readonly y: number };
+  readonly step: number;
+  readonly t: number;
+  readonly linearised: boolean;
+  readonly weights: KernelWeights;
+  readonly impulse: ImpulseResponse | null;
+}
+
+/**
+ * A 1-d scheme sees a single row (contracts.md §2, "In 1d the field is a single row"): an image's middle row,
+ * or a one-pixel-tall image as is. The analysis (stabilityState.ts) takes the same row.
+ */
+export function rowForScheme(scheme: CheckedScheme, image: RunImage): RunImage {
+  if (scheme.dims !== 1 || image.height <= 1) return image;
+  const row = Math.floor(image.height / 2);
+  const data = Float64Array.from({ length: image.width }, (_, x) => image.data[row * image.width + x]);
+  return { width: image.width, height: 1, data };
+}
+
+/** Grid lines: a header of dx offsets, then one row per dy (y grows downwards, like image rows). */
+export function formatWeightGrid(k: KernelWeights, dims: 1 | 2): string[] {
+  const r = k.radius;
+  const size = 2 * r + 1;
+  const cells: string[][] = [];
+  for (let j = 0; j < (dims === 2 ? size : 1); j++) {
+    const row: string[] = [];
+    for (let i = 0; i < size; i++) row.push(fmt(k.grid[j * size + i]));
+    cells.push(row);
+  }
+  const headers = Array.from({ length: size }, (_, i) => `dx=${i - r}`);
+  const width = Math.max(...cells.flat().map((c) => c.length), ...headers.map((h) => h.length));
+  const label = dims === 2 ? 'dy=' + String(-r) : '';
+  const lw = Math.max(label.length, dims === 2 ? `dy=${r}`.length : 0, 5);
+  const lines = [`${''.padEnd(lw)}  ${headers.map((h) => h.padStart(width)).join('  ')}`];
+  cells.forEach((row, j) => {
+    const l = dims === 2 ? `dy=${j - r}` : '';
+    lines.push(`${l.padEnd(lw)}  ${row.map((c) => c.padStart(width)).join('  ')}`);
+  });
+  return lines;
+}
+
+function textReport(rep: KernelReport, scheme: CheckedScheme): string {
+  const k = rep.weights;
+  const where = scheme.dims === 2 ? `pixel (${rep.at.x}, ${rep.at.y})` : `cell ${rep.at.x}`;
+  const lines = [
+    `${rep.file}: weights of ${rep.field}' at ${where}, step ${rep.step} (t = ${fmt(rep.t)}), ` +
+      `${rep.linearised ? 'full linearisation (diffusivities differentiated)' : 'diffusivities frozen at the state'}` +
+      `${rep.input ? `, input ${rep.input}` : ''}`,
+    `offsets: x to the right, y downwards; new ${rep.field} = ${fmt(k.value)}`,
+    ...formatWeightGrid(k, scheme.dims),
+  ];
+  const others = k.entries.filter((e) => e.field !== k.field);
+  if (others.length) {
+    lines.push('weights on other fields:');
+    for (const e of others) lines.push(`  ${e.field}[${e.offset.join(',')}]  ${fmt(e.weight)}`);
+  }
+  lines.push(`sum of weights ${fmt(k.sum)}; centre weight ${fmt(k.centre)}`);
+  if (k.negativeCentre) {
+    lines.push(`warning: the centre weight is negative (${fmt(k.centre)}): the update overshoots and can create new extrema here.`);
+  }
+  const ir = rep.impulse;
+  if (ir) {
+    const axes = scheme.dims === 2 ? ['x', 'y'] : ['x'];
+    lines.push(
+      `impulse response of the linear scheme after ${ir.steps} step${ir.steps === 1 ? '' : 's'} (t = ${fmt(ir.t)}): ` +
+        `mass ${fmt(ir.sum)}, ` + axes.map((a, i) => `variance ${a} ${fmt(ir.variance[i])}`).join(', ') + ' (cells²)',
+    );
+    lines.push(
+      `  equivalent Gaussian σ ${axes.map((a, i) => `${a} ${fmt(ir.sigma[i])}`).join(', ')} vs √(2t) = ${fmt(ir.heatSigma)}` +
+        ` (the width of the heat kernel for u_t = Δu)${ir.truncated ? '; the response was cut at the grid edge' : ''}`,
+    );
+  }
+  return lines.join('\n');
+}
+
+function jsonReport(rep: KernelReport, scheme: CheckedScheme): Record<string, unknown> {
+  const k = rep.weights;
+  const size = 2 * k.radius + 1;
+  const rows: number[][] = [];
+  for (let j = 0; j < (scheme.dims === 2 ? size : 1); j++) rows.push(Array.from(k.grid.subarray(j * size, (j + 1) * size)));
+  const ir = rep.impulse;
+  return {
+    file: rep.file,
+    input: rep.input,
+    field: rep.field,
+    at: rep.at,
+    step: rep.step,
+    t: rep.t,
+    linearised: rep.linearised,
+    value: k.value,
+    radius: k.radius,
+    weights: rows,
+    entries: k.entries,
+    sum: k.sum,
+    centre: k.centre,
+    negativeCentre: k.negativeCentre,
+    ...(ir ? {
+      impulse: {
+        steps: ir.steps, t: ir.t, sum: ir.sum, mean: ir.mean, variance: ir.variance, sigma: ir.sigma,
+        heatSigma: ir.heatSigma, truncated: ir.truncated,
+      },
+    } : {}),
+  };
+}
+
+export function kernelMain(argv: string[]): Promise<number> {
+  return guard('kernel', async () => {
+    const { values: o, positionals } = parseCommandLine(argv, OPTIONS, USAGE);
+    if (o.help) {
+      process.stdout.write(USAGE + '\n');
+      return 0;
+    }
+    if (positionals.length !== 1) throw new UsageError(`expected one FILE.\n${USAGE}`);
+    const file = positionals[0];
+    if (o.at === undefined) throw new UsageError(`--at X,Y is required.\n${USAGE}`);
+    if (o.input && o.scene) throw new UsageError(`give --input or --scene, not both.\n${USAGE}`);
+    if ((o.noise !== undefined || o.seed !== undefined) && !o.scene) throw new UsageError(`--noise and --seed go with --scene.\n${USAGE}`);
+    if (o.range !== undefined && !o.input) throw new UsageError(`--range goes with --input.\n${USAGE}`);
+    const atMatch = /^\s*(-?\d+)\s*(?:,\s*(-?\d+)\s*)?$/.exec(o.at);
+    if (!atMatch) throw new UsageError(`--at takes X,Y (whole numbers, e.g. 12,40), got '${o.at}'.\n${USAGE}`);
+    const step = o.step === undefined ? 0 : whole(o.step, '--step', 0);
+    const linearised = (o.linearised ?? false) || (o.linearized ?? false);
+    let size: { width: number; height: number } | undefined;
+    if (o.size !== undefined) {
+      const m = /^(\d+)x(\d+)$/.exec(o.size);
+      if (!m) throw new UsageError(`--size takes WxH, e.g. 128x96, got '${o.size}'.\n${USAGE}`);
+      size = { width: whole(m[1], '--size width', 1), height: whole(m[2], '--size height', 1) };
+    }
+    let range: { lo: number; hi: number } | undefined;
+    if (o.range !== undefined) {
+      const m = /^([^:]+):([^:]+)$/.exec(o.range);
+      if (!m) throw new UsageError(`--range takes LO:HI, got '${o.range}'.\n${USAGE}`);
+      range = { lo: number(m[1], '--range LO'), hi: number(m[2], '--range HI') };
+    }
+
+    let text: string;
+    try {
+      text = await fs.readFile(file, 'utf8');
+    } catch (err) {
+      process.stderr.write(`fluxel kernel: cannot read ${file}: ${(err as NodeJS.ErrnoException).code ?? String(err)}\n`);
+      return 1;
+    }
+    const checked = parseAndCheck(text);
+    const errors = checked.diagnostics.filter((d) => d.severity === 'error');
+    if (!checked.scheme || errors.length) {
+      for (const d of errors) process.stderr.write(formatDiagnostic(file, d) + '\n');
+      return 1;
+    }
+    const scheme = checked.scheme;
+    const field = o.field ?? scheme.updates[0]?.field;
+    if (field === undefined) {
+      process.stderr.write(`fluxel kernel: ${file}: the scheme has no update, so no pixel has weights.\n`);
+      return 1;
+    }
+    if (!scheme.updates.some((u) => u.field === field)) {
+      throw new UsageError(`--field ${field}: the scheme has no update of '${field}' (updated: ${scheme.updates.map((u) => u.field).join(', ')}).`);
+    }
+    const x = Number(atMatch[1]);
+    const y = atMatch[2] === undefined ? 0 : Number(atMatch[2]);
+    if (scheme.dims === 1 && y !== 0) throw new UsageError(`--at: a 1d scheme has one row; give --at X (or X,0), got '${o.at}'.`);
+
+    // The picture, as `fluxel run` takes it: a file, a named scene (its noisy version), or the survey scene.
+    let image: RunImage | null = null;
+    let inputName: string | null = null;
+    const needsImage = scheme.fields.some((f) => f.init.kind === 'image');
+    try {
+      if (o.input) {
+        image = (await readImageFile(o.input, range ? { range } : {})).channels[0];
+        inputName = o.input;
+      } else if (o.scene || needsImage) {
+        const scene = makeScene(o.scene ?? 'survey', {
+          ...(size ?? {}),
+          ...(o.noise !== undefined ? { noise: number(o.noise, '--noise') } : {}),
+          ...(o.seed !== undefined ? { seed: whole(o.seed, '--seed', 0) } : {}),
+        });
+        image = scene.noisy;
+        inputName = `scene:${scene.name}`;
+      }
+    } catch (err) {
+      if (err instanceof ImageError) {
+        process.stderr.write(`fluxel kernel: ${err.message}\n`);
+        return err.code === 'bad-option' && o.scene ? 2 : 1;
+      }
+      const code = (err as NodeJS.ErrnoException).code;
+      if (code) {
+        process.stderr.write(`fluxel kernel: cannot read ${o.input}: ${code}\n`);
+        return 1;
+      }
+      throw err;
+    }
+    if (image) image = rowForScheme(scheme, image);
+
+    let run;
+    try {
+      run = createRun(scheme, {
+        image, steps: step, dtype: 'float64',
+        width: image ? undefined : size?.width, height: image ? undefined : scheme.dims === 1 ? 1 : size?.height,
+      });
+    } catch (err) {
+      if (err instanceof EngineError) {
+        process.stderr.write(`fluxel kernel: ${file}: ${err.message}\n`);
+        return 1;
+      }
+      throw err;
+    }
+    const { width, height } = run.geometry;
+    if (x < 0 || x >= width || y < 0 || y >= height) {
+      const dims = scheme.dims === 2 ? `${width}×${height} image (x in 0..${width - 1}, y in 0..${height - 1})` : `row of ${width} cells (x in 0..${width - 1})`;
+      throw new UsageError(`--at ${o.at} is outside the ${dims}.`);
+    }
+    const result = run.runSync();
+    if (result.status === 'blow-up') {
+      process.stderr.write(`fluxel kernel: ${file}: the state blew up at step ${result.stepsDone}, before step ${step}; no weights to show.\n`);
+      return 1;
+    }
+    const state = { width, height, t: run.t, fields: scheme.fields.map((_, k) => run.fieldData(k)) };
+    const weights = kernelAt(scheme, state, x, y, { linearised, field });
+    // The impulse response needs a number of steps: --step when given, else the scheme's declared `steps`.
+    const irSteps = step > 0 ? step : Math.max(1, scheme.steps);
+    const impulse = impulseResponse(scheme, irSteps, { field });
+    const rep: KernelReport = { file, input: inputName, field, at: { x, y }, step, t: run.t, linearised, weights, impulse };
+    if (o.json) process.stdout.write(JSON.stringify(jsonReport(rep, scheme), null, 2) + '\n');
+    else process.stdout.write(textReport(rep, scheme) + '\n');
+    return 0;
+  });
+}
