@@ -30,7 +30,8 @@ export function declaredRange(scheme: CheckedScheme, name: string): { lo: number
 /** COUNT values from LO to HI inclusive, evenly spaced (COUNT = 1 gives LO). Ends are exact. */
 export function linspace(lo: number, hi: number, count: number): number[] {
   if (count === 1) return [lo];
-  return Array.from({ length: count }, (_, i) => (i === count - 1 ? hi : lo + ((hi - lo) * i) / (count - 1)));
+  // Rounded to 12 significant digits so 0.02:0.3:8 gives 0.1, not 0.09999999999999999 (still exact ends).
+  return Array.from({ length: count }, (_, i) => (i === count - 1 ? hi : Number((lo + ((hi - lo) * i) / (count - 1)).toPrecision(12))));
 }
 
 const NUM = String.raw`[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?`;

@@ -1,0 +1,84 @@
+// `fluxel fit`'s search: the best values of the free parameters inside their declared ranges, jointly with the
+// best step. Each evaluated setting is run for the full number of steps and scored by its best step's metric;
+// the optimiser (golden-section for one name, bounded Nelder–Mead for more; optimise.ts) minimises minus that.
+// Node (uses the worker pool); must not import vscode or the DOM.
+
+import type { Curve, MetricName, Setting } from './evaluate';
+import { goldenSection, nelderMead } from './optimise';
+import { TunePool } from './pool';
+import type { Problem } from './problem';
+
+export interface FreeName {
+  readonly name: string;
+  readonly lo: number;
+  readonly hi: number;
+  /** Declared value (clamped into the range): where Nelder–Mead starts. */
+  readonly value: number;
+}
+
+export interface FitOptions {
+  readonly free: readonly FreeName[];
+  readonly steps: number;
+  readonly metric: MetricName;
+  readonly workers: number;
+  readonly maxEvaluations?: number;
+  readonly dtype?: 'float32' | 'float64';
+  readonly onEvaluation?: (count: number) => void;
+}
+
+export interface FitResult {
+  readonly method: 'golden-section' | 'nelder-mead';
+  readonly values: Setting;
+  readonly step: number;
+  readonly best: number;
+  /** Metric of the noisy input (step 0), the baseline any useful setting must beat. */
+  readonly noisy: number;
+  readonly evaluations: number;
+  readonly stop: 'tolerance' | 'max-evaluations';
+  /** Every evaluated setting in evaluation order, with its best step and metric. */
+  readonly history: { readonly values: Setting; readonly step: number; readonly best: number }[];
+  readonly seconds: number;
+}
+
+export async function runFit(problem: Problem, opts: FitOptions): Promise<FitResult> {
+  const t0 = performance.now();
+  const pool = await TunePool.open(opts.workers, {
+    source: problem.source, image: problem.image, reference: problem.reference,
+    steps: opts.steps, metric: opts.metric, dtype: opts.dtype ?? 'float32',
+  });
+  const history: FitResult['history'][number][] = [];
+  const curves = new Map<string, Curve>();
+  const toSetting = (x: number[]): Setting => Object.fromEntries(opts.free.map((f, i) => [f.name, x[i]]));
+  const objective = async (points: number[][]): Promise<number[]> => {
+    const settings = points.map(toSetting);
+    const cs = await pool.evaluate(settings);
+    return cs.map((c, i) => {
+      history.push({ values: settings[i], step: c.bestStep, best: c.best });
+      curves.set(JSON.stringify(points[i]), c);
+      opts.onEvaluation?.(history.length);
+      // Maximise the metric: minimise its negative; a run with no value at all is the worst.
+      return c.bestStep < 0 ? Number.POSITIVE_INFINITY : -c.best;
+    });
+  };
+  try {
+    const f = opts.free;
+    const maxEvaluations = opts.maxEvaluations ?? 60;
+    const r = f.length === 1
+      ? await goldenSection(objective, f[0].lo, f[0].hi, { xTolerance: 2e-3, maxEvaluations })
+      : await nelderMead(objective, { lo: f.map((v) => v.lo), hi: f.map((v) => v.hi) }, { start: f.map((v) => v.value), xTolerance: 2e-3, fTolerance: opts.metric === 'psnr' ? 1e-4 : 1e-6, maxEvaluations });
+    const curve = curves.get(JSON.stringify(r.x)) as Curve;
+    return {
+      method: f.length === 1 ? 'golden-section' : 'nelder-mead',
+      values: toSetting(r.x),
+      step: curve.bestStep,
+      best: curve.best,
+      noisy: curve.values[0],
+      evaluations: r.evaluations,
+      stop: r.stop,
+      history,
+      seconds: (performance.now() - t0) / 1000,
+    };
+  } finally {
+    await pool.close();
+  }
+}
