@@ -1,0 +1,59 @@
+// Messages between the live run's host side and its analysis worker (stability verdict, weights at a pixel,
+// impulse response). Types only; the worker parses the scheme text itself, so requests carry plain data.
+// Must not import vscode or the DOM.
+
+import type { WireVerdict } from '../../protocol/preview';
+
+export interface KnobSet {
+  readonly values: Readonly<Record<string, number>>;
+  readonly dt: number;
+}
+
+export namespace ToAnalysis {
+  export interface Verdict { readonly type: 'verdict'; readonly id: number; readonly text: string; readonly knobs: KnobSet }
+  export interface Weights {
+    readonly type: 'weights';
+    readonly id: number;
+    readonly text: string;
+    readonly knobs: KnobSet;
+    /** Every field of the scheme at full resolution, indexed like scheme.fields. */
+    readonly fields: readonly Float32Array[] | readonly Float64Array[];
+    readonly width: number;
+    readonly height: number;
+    readonly t: number;
+    readonly x: number;
+    readonly y: number;
+    readonly field: string;
+  }
+  export interface Impulse { readonly type: 'impulse'; readonly id: number; readonly text: string; readonly knobs: KnobSet; readonly steps: number }
+  export type Type = Verdict | Weights | Impulse;
+}
+
+export interface WeightsResult {
+  readonly field: string;
+  readonly radius: number;
+  readonly dims: 1 | 2;
+  readonly grid: number[];
+  readonly sum: number;
+  readonly centre: number;
+  readonly negativeCentre: boolean;
+  readonly value: number;
+  readonly others: number;
+}
+
+export interface ImpulseResult {
+  readonly steps: number;
+  readonly t: number;
+  readonly sigma: number[];
+  readonly heatSigma: number;
+  readonly sum: number;
+  readonly truncated: boolean;
+}
+
+export namespace FromAnalysis {
+  export interface Verdict { readonly type: 'verdict'; readonly id: number; readonly verdict: WireVerdict; readonly extremumCheck: boolean }
+  export interface Weights { readonly type: 'weights'; readonly id: number; readonly weights: WeightsResult }
+  export interface Impulse { readonly type: 'impulse'; readonly id: number; readonly impulse: ImpulseResult | null }
+  export interface Failed { readonly type: 'error'; readonly id: number; readonly message: string }
+  export type Type = Verdict | Weights | Impulse | Failed;
+}

@@ -1,0 +1,26 @@
+// Entry point of the live run's analysis thread (bundled as dist/preview-analysis.js): the stability analysis can
+// take a few hundred milliseconds, which must never block the extension host, so it runs here, as do the weights
+// at a picked pixel and the impulse response. Must not import vscode or the DOM.
+
+import { parentPort } from 'node:worker_threads';
+import type { FromAnalysis, ToAnalysis } from './analysisProtocol';
+import { computeImpulse, computeVerdict, computeWeights } from './analysisCompute';
+
+function answer(msg: ToAnalysis.Type): FromAnalysis.Type {
+  try {
+    switch (msg.type) {
+      case 'verdict': return { type: 'verdict', id: msg.id, ...computeVerdict(msg.text, msg.knobs) };
+      case 'weights': return {
+        type: 'weights', id: msg.id,
+        weights: computeWeights(msg.text, msg.knobs, { fields: msg.fields, width: msg.width, height: msg.height, t: msg.t }, msg.x, msg.y, msg.field),
+      };
+      case 'impulse': return { type: 'impulse', id: msg.id, impulse: computeImpulse(msg.text, msg.knobs, msg.steps) };
+    }
+  } catch (err) {
+    return { type: 'error', id: (msg as { id: number }).id, message: err instanceof Error ? err.message : String(err) };
+  }
+}
+
+parentPort?.on('message', (msg: ToAnalysis.Type) => {
+  if (msg && typeof msg === 'object' && typeof msg.id === 'number') parentPort?.postMessage(answer(msg));
+});

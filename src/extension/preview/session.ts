@@ -1,0 +1,491 @@
+// One live run per scheme document, free of vscode: checks the text, starts engine runs (debounced edits, knob
+// moves, input changes), cancels the old run, streams frames to an injected poster, keeps the full-resolution
+// frames for the weights inspector, and answers the webview's intents. The panel (previewPanel.ts) wires it to
+// VS Code; the bench and the unit tests drive it directly. Must not import vscode or the DOM.
+
+import type { FieldSnapshot, WorkerRunOptions } from '../../engine/worker/protocol';
+import type { WorkerRunCallbacks, WorkerRunHandle } from '../../engine/worker/workerClient';
+import type { FrameStats, RunWarning } from '../../engine/types';
+import { makeScene, type Scene } from '../../images/scenes';
+import { parse, parseAndCheck } from '../../notation';
+import type { SourceRange } from '../../notation/ast';
+import type { CheckedScheme } from '../../notation/scheme';
+import type { FromPreview, InputChoice, KnobSpec, ToPreview, WireRange } from '../../protocol/preview';
+import type { AnalysisService } from './analysisClient';
+import type { KnobSet } from './analysisProtocol';
+import { downsample, frameStride, knobEdits, rowOf, shrinkFactor, type OffsetEdit } from './frames';
+
+/** The engine worker as the session uses it (EngineWorker, or a fake in tests). */
+export interface EngineLike {
+  start(input: { scheme: CheckedScheme } | { source: string }, options: WorkerRunOptions, cb?: WorkerRunCallbacks): WorkerRunHandle;
+  terminate(): Promise<void>;
+}
+
+export interface GreyPicture {
+  readonly width: number;
+  readonly height: number;
+  readonly data: Float32Array;
+}
+
+export interface SessionSettings {
+  /** Milliseconds an edit waits for the next one before a run starts (0: run on every change). */
+  readonly debounceMs: number;
+  /** Longest side, in pixels, of the frames posted to the webview; larger grids are box-downsampled. */
+  readonly maxPreviewSize: number;
+  /** Size of generated scenes. */
+  readonly sceneSize: number;
+}
+
+export const DEFAULT_SETTINGS: SessionSettings = { debounceMs: 150, maxPreviewSize: 512, sceneSize: 256 };
+
+/** What the session needs from its surroundings; every member is injected so the session runs without VS Code. */
+export interface SessionEnv {
+  readonly source: string;
+  readonly fileName: string;
+  post(msg: ToPreview.Type): void;
+  newEngine(): EngineLike;
+  readonly analysis: AnalysisService;
+  settings(): SessionSettings;
+  readImage(uri: string): Promise<GreyPicture>;
+  /** The remembered input choice of this document, or null. */
+  recallInput(): InputChoice | null;
+  rememberInput(input: InputChoice): void;
+  /** Optional editor actions (absent in the bench). */
+  pickImage?(): Promise<string | null>;
+  applyEdits?(edits: readonly OffsetEdit[], text: string): Promise<boolean>;
+  reveal?(range: WireRange): void;
+  log?(line: string): void;
+}
+
+/** A step longer than this is "long": cancelling then terminates the worker instead of waiting (contracts §5). */
+export const LONG_STEP_MS = 40;
+
+export const DEFAULT_INPUT: InputChoice = { kind: 'scene', scene: 'survey', noise: 0.1, seed: 7 };
+
+const SCENE_LABELS: Record<string, string> = { survey: 'survey tile', cells: 'cell slide', card: 'test card' };
+
+export function inputLabel(input: InputChoice): string {
+  if (input.kind === 'scene') return `${SCENE_LABELS[input.scene]}, noise ${input.noise}, seed ${input.seed}`;
+  const tail = input.uri.split(/[\\/]/).pop() ?? input.uri;
+  return decodeURIComponent(tail);
+}
+
+export function wireRange(r: SourceRange): WireRange {
+  return { start: { line: r.start.line, column: r.start.column }, end: { line: r.end.line, column: r.end.column } };
+}
+
+interface StoredFrame {
+  readonly step: number;
+  readonly t: number;
+  readonly stats: FrameStats;
+  readonly fields: Record<string, FieldSnapshot>;
+}
+
+interface LiveRun {
+  readonly runId: number;
+  readonly text: string;
+  readonly scheme: CheckedScheme;
+  readonly knobs: KnobSet;
+  readonly started: ToPreview.RunStarted;
+  readonly shrink: number;
+  handle: WorkerRunHandle | null;
+  engine: EngineLike | null;
+  readonly frames: StoredFrame[];
+  readonly findings: ToPreview.Finding[];
+  ended: ToPreview.RunEnded | null;
+  verdict: ToPreview.Verdict | null;
+  impulse: ToPreview.Impulse | null;
+  /** Milliseconds per step seen so far (NaN until two frames arrived); started-at time for the first step. */
+  stepMs: number;
+  readonly startedAt: number;
+}
+
+export class PreviewSession {
+  private text = '';
+  private good: { text: string; scheme: CheckedScheme } | null = null;
+  private declared = new Map<string, number>();
+  private declaredDt = NaN;
+  /** Knob values the user moved away from the file's values. */
+  private overrides: Record<string, number> = {};
+  private dtOverride: number | null = null;
+  private input: InputChoice;
+  private engine: EngineLike | null = null;
+  private run: LiveRun | null = null;
+  private nextRunId = 1;
+  private timer: ReturnType<typeof setTimeout> | null = null;
+  private lastRefresh = -Infinity;
+  private shownField: string | null = null;
+  private schemeMsg: ToPreview.Scheme | null = null;
+  private problemsMsg: ToPreview.Problems | null = null;
+  private sceneCache: { key: string; scene: Scene } | null = null;
+  private fileCache: { uri: string; picture: GreyPicture } | null = null;
+  private extremumByText = new Map<string, boolean>();
+  private disposed = false;
+
+  constructor(private readonly env: SessionEnv) {
+    this.input = env.recallInput() ?? DEFAULT_INPUT;
+  }
+
+  /** The document changed (or was opened): check it now or after the debounce window. */
+  documentChanged(text: string): void {
+    this.text = text;
+    const wait = this.env.settings().debounceMs;
+    const now = performance.now();
+    // The first change after a quiet period runs at once; changes that follow within the window are folded.
+    if (wait <= 0 || (this.timer === null && now - this.lastRefresh >= wait)) {
+      this.clearTimer();
+      this.refresh();
+      return;
+    }
+    this.clearTimer();
+    this.timer = setTimeout(() => {
+      this.timer = null;
+      this.refresh();
+    }, wait);
+  }
+
+  private clearTimer(): void {
+    if (this.timer !== null) clearTimeout(this.timer);
+    this.timer = null;
+  }
+
+  /** Checks the latest text; on success posts the scheme and starts a run, on errors keeps the last good run. */
+  refresh(): void {
+    if (this.disposed) return;
+    this.lastRefresh = performance.now();
+    const text = this.text;
+    const checked = parseAndCheck(text);
+    const errors = checked.diagnostics.filter((d) => d.severity === 'error');
+    if (!checked.scheme || errors.length) {
+      const first = errors[0];
+      this.problemsMsg = {
+        type: 'problems', source: this.env.source, count: errors.length || 1,
+        first: first ? { message: first.message, code: first.code, range: wireRange(first.range) } : { message: 'The scheme has errors.', code: 'error', range: { start: { line: 1, column: 1 }, end: { line: 1, column: 1 } } },
+      };
+      this.env.post(this.problemsMsg);
+      return;
+    }
+    if (this.problemsMsg && this.problemsMsg.first) {
+      this.problemsMsg = { type: 'problems', source: this.env.source, count: 0, first: null };
+      this.env.post(this.problemsMsg);
+    }
+    const scheme = checked.scheme;
+    // A knob the user moved follows the file again once the file's own value for it changes.
+    for (const p of scheme.params) {
+      if (this.declared.has(p.name) && this.declared.get(p.name) !== p.value) delete this.overrides[p.name];
+    }
+    if (!Number.isNaN(this.declaredDt) && this.declaredDt !== scheme.dt) this.dtOverride = null;
+    this.declared = new Map(scheme.params.map((p) => [p.name, p.value]));
+    this.declaredDt = scheme.dt;
+    for (const k of Object.keys(this.overrides)) if (!this.declared.has(k)) delete this.overrides[k];
+    this.good = { text, scheme };
+    this.postScheme();
+    this.startRun();
+  }
+
+  private knobs(): KnobSet {
+    const scheme = this.good?.scheme;
+    const values: Record<string, number> = {};
+    for (const p of scheme?.params ?? []) values[p.name] = this.overrides[p.name] ?? p.value;
+    return { values, dt: this.dtOverride ?? scheme?.dt ?? 0 };
+  }
+
+  private postScheme(): void {
+    const g = this.good;
+    if (!g) return;
+    const s = g.scheme;
+    const knobs: KnobSpec[] = s.params.map((p) => ({ name: p.name, value: p.value, lo: p.lo, hi: p.hi }));
+    const fields = s.fields.filter((f) => f.updated).map((f) => f.name);
+    if (!this.shownField || !fields.includes(this.shownField)) this.shownField = s.updates[0]?.field ?? fields[0] ?? s.fields[0]?.name ?? null;
+    this.schemeMsg = {
+      type: 'scheme', source: this.env.source, fileName: this.env.fileName, dims: s.dims, fields,
+      knobs, dt: { name: 'dt', value: s.dt, lo: s.dtBounds?.lo ?? null, hi: s.dtBounds?.hi ?? null }, steps: s.steps,
+      current: this.knobs(), input: this.input, inputLabel: inputLabel(this.input),
+    };
+    this.env.post(this.schemeMsg);
+  }
+
+  private scene(input: Extract<InputChoice, { kind: 'scene' }>): Scene {
+    const size = this.env.settings().sceneSize;
+    const key = `${input.scene}/${input.noise}/${input.seed}/${size}`;
+    if (this.sceneCache?.key !== key) this.sceneCache = { key, scene: makeScene(input.scene, { width: size, height: size, noise: input.noise, seed: input.seed }) };
+    return this.sceneCache.scene;
+  }
+
+  /** Cancels the current run. A long step (or a first step that has not come back in time) costs a new worker. */
+  private stopRun(): void {
+    const r = this.run;
+    if (!r || !r.handle || r.ended) return;
+    r.handle.cancel();
+    const waited = performance.now() - r.startedAt;
+    const long = Number.isFinite(r.stepMs) ? r.stepMs > LONG_STEP_MS : r.frames.length <= 1 && waited > LONG_STEP_MS;
+    if (long && r.engine) {
+      const old = r.engine;
+      if (this.engine === old) this.engine = null;
+      void old.terminate().catch(() => undefined);
+    }
+    r.handle = null;
+  }
+
+  private startRun(): void {
+    const g = this.good;
+    if (!g || this.disposed) return;
+    this.stopRun();
+    const runId = this.nextRunId++;
+    const input = this.input;
+    const knobs = this.knobs();
+    if (input.kind === 'file' && this.fileCache?.uri !== input.uri) {
+      // Read the image first; the run starts when it arrives (unless something newer started meanwhile).
+      this.env.readImage(input.uri).then(
+        (picture) => {
+          this.fileCache = { uri: input.uri, picture };
+          if (this.nextRunId === runId + 1 && !this.disposed) this.startRun();
+        },
+        (err: unknown) => {
+          this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `Cannot read ${inputLabel(input)}: ${err instanceof Error ? err.message : String(err)}` });
+          this.setInput(DEFAULT_INPUT);
+        },
+      );
+      return;
+    }
+    const s = g.scheme;
+    const needsImage = s.fields.some((f) => f.init.kind === 'image');
+    let image: GreyPicture | null = null;
+    let reference: GreyPicture | null = null;
+    if (input.kind === 'scene') {
+      const sc = this.scene(input);
+      image = sc.noisy;
+      reference = sc.clean;
+    } else if (this.fileCache) {
+      image = this.fileCache.picture;
+    }
+    const size = this.env.settings().sceneSize;
+    const width = s.dims === 1 ? (image?.width ?? size) : image?.width ?? size;
+    const height = s.dims === 1 ? 1 : image?.height ?? size;
+    const steps = s.untilTime !== null && knobs.dt !== s.dt ? Math.round(s.untilTime / knobs.dt) : s.steps;
+    const every = frameStride(steps, width * height, s.fields.length);
+    const shrink = shrinkFactor(width, height, this.env.settings().maxPreviewSize);
+    const field = this.shownField ?? s.fields[0].name;
+    const started: ToPreview.RunStarted = {
+      type: 'runStarted', source: this.env.source, runId, width, height,
+      frameWidth: Math.ceil(width / shrink), frameHeight: Math.ceil(height / shrink), steps, every, dt: knobs.dt, field,
+      hasReference: reference !== null && needsImage,
+    };
+    const run: LiveRun = {
+      runId, text: g.text, scheme: s, knobs, started, shrink, handle: null, engine: null, frames: [], findings: [], ended: null,
+      verdict: null, impulse: null, stepMs: NaN, startedAt: performance.now(),
+    };
+    this.run = run;
+    this.env.post(started);
+
+    const known = this.extremumByText.get(g.text);
+    const options: WorkerRunOptions = {
+      ...(needsImage && image ? { image } : { width, height }),
+      ...(needsImage && reference ? { reference } : {}),
+      params: knobs.values, dt: knobs.dt, every,
+      monitors: { extremumCheck: known ?? 'auto' },
+    };
+    if (!this.engine) this.engine = this.env.newEngine();
+    run.engine = this.engine;
+    let lastFrameAt = NaN;
+    let lastFrameStep = 0;
+    try {
+      run.handle = this.engine.start({ scheme: s }, options, {
+        onFrame: (stats, fields) => {
+          const now = performance.now();
+          if (stats.step > lastFrameStep && Number.isFinite(lastFrameAt)) run.stepMs = (now - lastFrameAt) / (stats.step - lastFrameStep);
+          else if (stats.step > 0) run.stepMs = (now - run.startedAt) / stats.step;
+          lastFrameAt = now;
+          lastFrameStep = stats.step;
+          const frame: StoredFrame = { step: stats.step, t: stats.t, stats, fields };
+          run.frames.push(frame);
+          if (this.run === run) this.postFrame(run, frame);
+        },
+        onWarning: (w) => {
+          const msg = this.findingMsg(run, w);
+          run.findings.push(msg);
+          if (this.run === run) this.env.post(msg);
+        },
+      });
+    } catch (err) {
+      this.endRun(run, 'failed', 0, null, err instanceof Error ? err.message : String(err));
+      return;
+    }
+    run.handle.done.then(
+      ({ result }) => this.endRun(run, result.status, result.stepsDone, result.best ?? null, null),
+      (err: unknown) => this.endRun(run, run.handle === null ? 'cancelled' : 'failed', run.frames.at(-1)?.step ?? 0, null, err instanceof Error ? err.message : String(err)),
+    );
+    // The static verdict and the impulse response come from the analysis thread, beside the run.
+    this.env.analysis.verdict(g.text, knobs).then(
+      (v) => {
+        this.extremumByText.set(g.text, v.extremumCheck);
+        run.verdict = { type: 'verdict', source: this.env.source, runId, verdict: v.verdict };
+        if (this.run === run) this.env.post(run.verdict);
+      },
+      (err: unknown) => this.env.log?.(`verdict failed: ${String(err)}`),
+    );
+    this.requestImpulse(run, steps);
+  }
+
+  private requestImpulse(run: LiveRun, steps: number): void {
+    this.env.analysis.impulse(run.text, run.knobs, Math.max(1, steps)).then(
+      (r) => {
+        if (!r) return;
+        run.impulse = { type: 'impulse', source: this.env.source, runId: run.runId, ...r };
+        if (this.run === run) this.env.post(run.impulse);
+      },
+      (err: unknown) => this.env.log?.(`impulse failed: ${String(err)}`),
+    );
+  }
+
+  private endRun(run: LiveRun, status: ToPreview.RunEnded['status'], stepsDone: number, best: { step: number; psnr: number } | null, message: string | null): void {
+    if (run.ended) return;
+    run.ended = { type: 'runEnded', source: this.env.source, runId: run.runId, status, stepsDone, best, message };
+    if (this.run === run) this.env.post(run.ended);
+  }
+
+  private findingMsg(run: LiveRun, w: RunWarning): ToPreview.Finding {
+    return {
+      type: 'finding', source: this.env.source, runId: run.runId,
+      finding: { kind: w.kind, step: w.step, x: w.x, y: w.y, field: w.field, message: w.message, range: wireRange(w.range) },
+    };
+  }
+
+  private postFrame(run: LiveRun, frame: StoredFrame): void {
+    const name = this.shownField && frame.fields[this.shownField] ? this.shownField : run.started.field;
+    const snap = frame.fields[name];
+    if (!snap) return;
+    const small = downsample(snap, run.shrink);
+    const st = frame.stats.fields[name] ?? { min: NaN, max: NaN, mean: NaN };
+    this.env.post({
+      type: 'frame', source: this.env.source, runId: run.runId, field: name, step: frame.step, t: frame.t,
+      width: small.width, height: small.height, data: small.data, stats: { min: st.min, max: st.max, mean: st.mean },
+      psnr: typeof frame.stats.psnr === 'number' && name === run.started.field ? frame.stats.psnr : null,
+    });
+  }
+
+  /** Posts everything of the current state again (a page that (re)loaded). */
+  replay(): void {
+    if (this.problemsMsg) this.env.post(this.problemsMsg);
+    if (this.schemeMsg) this.env.post({ ...this.schemeMsg, current: this.knobs(), input: this.input, inputLabel: inputLabel(this.input) });
+    const r = this.run;
+    if (!r) return;
+    this.env.post(r.started);
+    for (const f of r.frames) this.postFrame(r, f);
+    for (const f of r.findings) this.env.post(f);
+    if (r.verdict) this.env.post(r.verdict);
+    if (r.impulse) this.env.post(r.impulse);
+    if (r.ended) this.env.post(r.ended);
+  }
+
+  setInput(input: InputChoice): void {
+    this.input = input;
+    this.env.rememberInput(input);
+    this.postScheme();
+    this.startRun();
+  }
+
+  /** Handles one validated message from the webview. */
+  async handle(msg: FromPreview.Type): Promise<void> {
+    if (this.disposed) return;
+    switch (msg.type) {
+      case 'ready':
+        this.replay();
+        return;
+      case 'rerun':
+        this.startRun();
+        return;
+      case 'setKnobs': {
+        const s = this.good?.scheme;
+        if (!s) return;
+        for (const p of s.params) {
+          const v = msg.values[p.name];
+          if (v === undefined) continue;
+          if (v === p.value) delete this.overrides[p.name];
+          else this.overrides[p.name] = v;
+        }
+        this.dtOverride = msg.dt === s.dt ? null : msg.dt;
+        this.startRun();
+        return;
+      }
+      case 'writeKnobs': {
+        if (!this.env.applyEdits) return;
+        const text = this.text;
+        const edits = knobEdits(parse(text).program, msg.values, msg.dt);
+        if (edits.length) await this.env.applyEdits(edits, text);
+        return;
+      }
+      case 'setInput':
+        this.setInput(msg.input);
+        return;
+      case 'chooseImage': {
+        const uri = await this.env.pickImage?.();
+        if (uri) this.setInput({ kind: 'file', uri });
+        return;
+      }
+      case 'showField': {
+        const r = this.run;
+        if (!r || !r.scheme.fields.some((f) => f.name === msg.field)) return;
+        this.shownField = msg.field;
+        this.env.post({ ...r.started, field: msg.field });
+        for (const f of r.frames) this.postFrame(r, f);
+        if (r.ended) this.env.post(r.ended);
+        return;
+      }
+      case 'pickPixel':
+        await this.pickPixel(msg);
+        return;
+      case 'requestProfile': {
+        const r = this.run;
+        if (!r || r.runId !== msg.runId) return;
+        const at = r.frames.find((f) => f.step === msg.step);
+        const first = r.frames[0];
+        const name = this.shownField ?? r.started.field;
+        if (!at || !first || !at.fields[name]) return;
+        this.env.post({ type: 'profile', source: this.env.source, runId: r.runId, row: Math.min(msg.row, r.started.height - 1), step: msg.step, before: rowOf(first.fields[name], msg.row), after: rowOf(at.fields[name], msg.row) });
+        return;
+      }
+      case 'reveal':
+        this.env.reveal?.(msg.range);
+        return;
+    }
+  }
+
+  /** Weights at (x, y), step n, from the full-resolution state recorded at that step (contracts §5). */
+  private async pickPixel(msg: FromPreview.PickPixel): Promise<void> {
+    const r = this.run;
+    if (!r || r.runId !== msg.runId) return;
+    const frame = r.frames.find((f) => f.step === msg.step);
+    if (!frame || msg.x >= r.started.width || msg.y >= r.started.height) return;
+    const fields = r.scheme.fields.map((f) => frame.fields[f.name]?.data ?? new Float32Array(r.started.width * r.started.height));
+    const name = this.shownField && r.scheme.fields.some((f) => f.name === this.shownField && f.updated) ? this.shownField : r.started.field;
+    try {
+      const w = await this.env.analysis.weights({
+        text: r.text, knobs: r.knobs, fields: fields as Float32Array[], width: r.started.width, height: r.started.height, t: frame.t, x: msg.x, y: msg.y, field: name,
+      });
+      if (this.run !== r) return;
+      this.env.post({ type: 'weights', source: this.env.source, runId: r.runId, step: msg.step, x: msg.x, y: msg.y, ...w });
+    } catch (err) {
+      this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `Weights at (${msg.x}, ${msg.y}) could not be computed: ${err instanceof Error ? err.message : String(err)}` });
+    }
+    if (msg.step > 0) this.requestImpulse(r, msg.step);
+  }
+
+  /** The id of the run whose frames are current (for tests and the bench). */
+  get currentRunId(): number | null {
+    return this.run?.runId ?? null;
+  }
+
+  get currentInput(): InputChoice {
+    return this.input;
+  }
+
+  dispose(): void {
+    this.disposed = true;
+    this.clearTimer();
+    this.stopRun();
+    const e = this.engine;
+    this.engine = null;
+    if (e) void e.terminate().catch(() => undefined);
+  }
+}
