@@ -182,7 +182,9 @@ export class Run {
     this.halo = planHalo(scheme, values, this.dt);
     const g = makeGeometry(width, height, this.halo.halo, scheme.dims);
     this.geometry = g;
-    const alloc = (): FieldArray => (this.dtype === 'float32' ? new Float32Array(g.pw * g.ph) : new Float64Array(g.pw * g.ph));
+    // A backend may place the buffers itself (shared WebAssembly memory); at most: cur + next per field, lets, blur scratch.
+    const pool = this.compiled.allocateBuffers?.(g, 2 * scheme.fields.length + scheme.lets.length + 1) ?? [];
+    const alloc = (): FieldArray => pool.pop() ?? (this.dtype === 'float32' ? new Float32Array(g.pw * g.ph) : new Float64Array(g.pw * g.ph));
 
     const cur = scheme.fields.map(() => alloc());
     // Fields without an update stay constant: their "next" buffer is the current one and is never written.

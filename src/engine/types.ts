@@ -24,6 +24,11 @@ export interface CompiledScheme {
   computeLet(index: number, g: Geometry, ctx: KernelContext, extent: number): void;
   /** All updates of one step, fused into one pixel loop; fills ctx.monitor. */
   update(g: Geometry, ctx: KernelContext): void;
+  /**
+   * Optional: `count` padded buffers for a run of this geometry, where the backend wants them (the WebAssembly
+   * backend keeps them in one shared memory); null or absent means ordinary typed arrays.
+   */
+  allocateBuffers?(g: Geometry, count: number): FieldArray[] | null;
 }
 
 /** Where another backend (WebAssembly SIMD, a later issue) plugs in. */

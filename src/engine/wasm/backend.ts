@@ -1,0 +1,291 @@
+// The WebAssembly SIMD kernel backend: compiles a checked scheme's update and `expr` lets to f32x4 (Float32) or
+// f64x2 (Float64) kernels with our own emitter, keeps a run's buffers in one shared WebAssembly.Memory, and splits
+// rows into two bands (this thread and one helper) on large images. Field initialisers, blur lets and anything
+// it cannot vectorise run on the JavaScript backend over the same buffers. Must not import vscode or the DOM.
+
+import type { CheckedScheme } from '../../notation/scheme';
+import { jsBackend, type JsBackend } from '../jsBackend';
+import { canonicalScheme, hashText } from '../plan';
+import type { CompiledScheme, DType, FieldArray, Geometry, KernelBackend, KernelContext } from '../types';
+import { encodeModule, type FnBody } from './emit';
+import { letGraph, Unsupported, updateGraph, type KernelGraph } from './ir';
+import {
+  BUFFERS_AT, checkVectorisable, emitKernel, IMPORTS, MAX_FIELDS, MAX_PARAMS, MONITOR_AT, MONITOR_BYTES, PARAMS_AT, type BufId,
+} from './kernel';
+import { wasmApi, type WasmMemory, type WasmModule } from './wasmApi';
+import { coreCount, getHelper, startOnHelper, waitForHelper } from './threads';
+
+/** Below this many pixels a second thread costs more (waking it, the barrier) than it saves. */
+const THREAD_MIN_PIXELS = 128 * 128;
+const CACHE_LIMIT = 32;
+
+export interface WasmOptions {
+  /** Threads per run: 1, 2, or 'auto' (2 on large images when the machine has two cores). */
+  readonly threads?: 1 | 2 | 'auto';
+}
+
+const MATH_IMPORTS = { exp: Math.exp, log: Math.log, sin: Math.sin, cos: Math.cos, tanh: Math.tanh, sign: Math.sign, pow: Math.pow };
+
+/** A run's buffers: one shared memory, bump-allocated; kernels are instantiated over it per geometry. */
+class Arena {
+  readonly memory: WasmMemory;
+  readonly f64: Float64Array;
+  private next: number;
+  readonly instances = new Map<string, { module: WasmModule; names: string[]; fns: ((...a: number[]) => void)[] }>();
+  constructor(readonly g: Geometry, readonly dtype: DType, count: number, readonly threads: number) {
+    const bytes = dtype === 'float32' ? 4 : 8;
+    const size = align16(g.pw * g.ph * bytes);
+    this.next = align16(BUFFERS_AT + (g.haloY * g.pw + g.haloX) * bytes + 16);
+    const pages = Math.ceil((this.next + count * size + 64) / 65536);
+    this.memory = new (api().Memory)({ initial: pages, maximum: pages, shared: true });
+    this.f64 = new Float64Array(this.memory.buffer, 0, BUFFERS_AT / 8);
+  }
+  alloc(): FieldArray {
+    const g = this.g, n = g.pw * g.ph;
+    const a = this.dtype === 'float32' ? new Float32Array(this.memory.buffer, this.next, n) : new Float64Array(this.memory.buffer, this.next, n);
+    this.next += align16(a.byteLength);
+    arenas.set(a.buffer, this);
+    return a;
+  }
+}
+
+function align16(n: number): number {
+  return Math.ceil(n / 16) * 16;
+}
+
+function api(): NonNullable<typeof wasmApi> {
+  if (!wasmApi) throw new Error('no WebAssembly in this runtime');
+  return wasmApi;
+}
+
+const arenas = new WeakMap<ArrayBufferLike, Arena>();
+
+interface Plan {
+  readonly update: KernelGraph;
+  /** Per let: its graph, or why it runs in JavaScript (blur lets are always JavaScript, and not reported). */
+  readonly lets: readonly (KernelGraph | null)[];
+  readonly notes: readonly string[];
+  readonly twoD: boolean;
+}
+
+class WasmCompiled implements CompiledScheme {
+  private threadsUsed = 1;
+  private readonly modules = new Map<string, { module: WasmModule; names: string[]; bufs: BufId[][] }>();
+  constructor(readonly dtype: DType, readonly signature: string, private readonly js: CompiledScheme, private readonly plan: Plan, private readonly opts: WasmOptions) {}
+
+  get backend(): string {
+    const lanes = this.dtype === 'float32' ? 'f32x4' : 'f64x2';
+    const notes = this.plan.notes.length ? `; ${this.plan.notes.join('; ')}` : '';
+    return `wasm (${lanes}, ${this.threadsUsed} thread${this.threadsUsed > 1 ? 's' : ''}${notes})`;
+  }
+
+  allocateBuffers(g: Geometry, count: number): FieldArray[] | null {
+    const t = this.opts.threads ?? 'auto';
+    const threads = t === 1 ? 1 : t === 2 || (g.width * g.height >= THREAD_MIN_PIXELS && coreCount() >= 2) ? 2 : 1;
+    let arena: Arena;
+    try {
+      arena = new Arena(g, this.dtype, count, threads);
+    } catch {
+      return null; // too large for one memory: the runner allocates ordinary arrays and the JavaScript kernels run
+    }
+    const out: FieldArray[] = [];
+    for (let k = 0; k < count; k++) out.push(arena.alloc());
+    return out;
+  }
+
+  initField(index: number, g: Geometry, ctx: KernelContext): void {
+    this.js.initField(index, g, ctx);
+  }
+
+  private lanes(): number {
+    return this.dtype === 'float32' ? 4 : 2;
+  }
+
+  /** The arena holding every buffer of the context, or null (then the JavaScript kernels run). */
+  private arenaOf(ctx: KernelContext): Arena | null {
+    const a = arenas.get(ctx.cur[0]?.buffer);
+    if (!a) return null;
+    for (const list of [ctx.cur, ctx.next, ctx.lets]) for (const b of list) if (arenas.get(b.buffer) !== a) return null;
+    return a;
+  }
+
+  private instance(arena: Arena, g: Geometry): { fns: ((...a: number[]) => void)[]; bufs: BufId[][]; module: WasmModule; names: string[]; key: string } {
+    const key = `${g.pw},${g.haloX},${g.haloY}`;
+    let m = this.modules.get(key);
+    if (!m) {
+      const geo = { pw: g.pw, hx: g.haloX, hy: g.haloY };
+      const funcs: { name: string; body: FnBody }[] = [];
+      const bufs: BufId[][] = [];
+      const u = emitKernel(this.plan.update, this.dtype, geo, 'd', true);
+      funcs.push({ name: 'u', body: u.body });
+      bufs.push([...u.bufs]);
+      this.plan.lets.forEach((lg, k) => {
+        if (!lg) return;
+        const e = emitKernel(lg, this.dtype, geo, 'l', false);
+        funcs.push({ name: `l${k}`, body: e.body });
+        bufs.push([...e.bufs]);
+      });
+      const bytes = encodeModule({ imports: IMPORTS.map(name => ({ name, params: name === 'pow' ? [0x7c, 0x7c] : [0x7c], results: [0x7c] })), memory: { min: 1, max: 65536 }, funcs });
+      m = { module: new (api().Module)(bytes), names: funcs.map(f => f.name), bufs };
+      this.modules.set(key, m);
+    }
+    let inst = arena.instances.get(key);
+    if (!inst) {
+      const i = new (api().Instance)(m.module, { m: { ...MATH_IMPORTS, memory: arena.memory } });
+      inst = { module: m.module, names: m.names, fns: m.names.map(n => i.exports[n] as (...a: number[]) => void) };
+      arena.instances.set(key, inst);
+    }
+    return { ...inst, bufs: m.bufs, key: `${this.signature}/${key}/${arenaId(arena)}` };
+  }
+
+  private writeRunValues(arena: Arena, ctx: KernelContext): void {
+    const f = arena.f64, p = PARAMS_AT / 8;
+    f[p] = ctx.dt;
+    f[p + 1] = ctx.t;
+    for (let k = 0; k < ctx.params.length; k++) f[p + 2 + k] = ctx.params[k];
+  }
+
+  /** Runs function `fn` over rows [ya, yb), in two bands when the arena has two threads. */
+  private runBands(arena: Arena, g: Geometry, fn: number, bufArgs: number[], x0: number, x1: number, ya: number, yb: number): number {
+    const inst = this.instance(arena, g);
+    const rows = yb - ya;
+    const h = arena.threads > 1 && rows >= 8 ? getHelper() : null;
+    if (!h) {
+      inst.fns[fn](...bufArgs, x0, x1, ya, yb, MONITOR_AT);
+      return 1;
+    }
+    const mid = ya + (rows >> 1);
+    startOnHelper(h, inst.key, inst.module, arena.memory, inst.names, fn, [...bufArgs, x0, x1, mid, yb, MONITOR_AT + MONITOR_BYTES]);
+    inst.fns[fn](...bufArgs, x0, x1, ya, mid, MONITOR_AT);
+    if (!waitForHelper(h)) {
+      inst.fns[fn](...bufArgs, x0, x1, mid, yb, MONITOR_AT + MONITOR_BYTES);
+    }
+    return 2;
+  }
+
+  private bufArgs(bufs: readonly BufId[], ctx: KernelContext): number[] {
+    return bufs.map(b => (b.kind === 'c' ? ctx.cur : b.kind === 'd' ? ctx.next : ctx.lets)[b.index].byteOffset);
+  }
+
+  computeLet(index: number, g: Geometry, ctx: KernelContext, extent: number): void {
+    const arena = this.arenaOf(ctx);
+    const lg = this.plan.lets[index];
+    // As the JavaScript let kernels: 1d schemes extend rows only.
+    const e = extent, ey = this.plan.twoD ? e : 0;
+    if (!arena || !lg || g.width + 2 * e < this.lanes()) {
+      this.js.computeLet(index, g, ctx, extent);
+      return;
+    }
+    this.writeRunValues(arena, ctx);
+    const inst = this.instance(arena, g);
+    const fn = inst.names.indexOf(`l${index}`);
+    this.runBands(arena, g, fn, this.bufArgs(inst.bufs[fn], ctx), -e, g.width + e, -ey, g.height + ey);
+  }
+
+  update(g: Geometry, ctx: KernelContext): void {
+    const arena = this.arenaOf(ctx);
+    if (!arena || g.width < this.lanes()) {
+      this.js.update(g, ctx);
+      return;
+    }
+    this.writeRunValues(arena, ctx);
+    const inst = this.instance(arena, g);
+    const threads = this.runBands(arena, g, 0, this.bufArgs(inst.bufs[0], ctx), 0, g.width, 0, g.height);
+    this.threadsUsed = threads;
+    const f = arena.f64, M = ctx.monitor;
+    for (const s of this.plan.update.stores) {
+      let mn = f[(MONITOR_AT + 16 * s.field) / 8], mx = f[(MONITOR_AT + 16 * s.field + 8) / 8];
+      if (threads > 1) {
+        mn = Math.min(mn, f[(MONITOR_AT + MONITOR_BYTES + 16 * s.field) / 8]);
+        mx = Math.max(mx, f[(MONITOR_AT + MONITOR_BYTES + 16 * s.field + 8) / 8]);
+      }
+      M.min[s.field] = mn;
+      M.max[s.field] = mx;
+      M.bad[s.field] = (mn - mn) + (mx - mx);
+    }
+  }
+}
+
+let nextArenaId = 1;
+const arenaIds = new WeakMap<Arena, number>();
+function arenaId(a: Arena): number {
+  let id = arenaIds.get(a);
+  if (id === undefined) arenaIds.set(a, (id = nextArenaId++));
+  return id;
+}
+
+/** A scheme the SIMD backend does not take: the JavaScript kernels, with the reason in `backend`. */
+class Fallback implements CompiledScheme {
+  readonly backend: string;
+  constructor(private readonly js: CompiledScheme, reason: string) {
+    this.backend = `js (wasm fallback: ${reason})`;
+  }
+  get dtype(): DType {
+    return this.js.dtype;
+  }
+  get signature(): string {
+    return this.js.signature;
+  }
+  initField(index: number, g: Geometry, ctx: KernelContext): void {
+    this.js.initField(index, g, ctx);
+  }
+  computeLet(index: number, g: Geometry, ctx: KernelContext, extent: number): void {
+    this.js.computeLet(index, g, ctx, extent);
+  }
+  update(g: Geometry, ctx: KernelContext): void {
+    this.js.update(g, ctx);
+  }
+}
+
+function buildPlan(scheme: CheckedScheme, dtype: DType): Plan {
+  if (!wasmApi) throw new Unsupported('no WebAssembly in this runtime', 0);
+  if (scheme.fields.length > MAX_FIELDS) throw new Unsupported(`more than ${MAX_FIELDS} fields`, scheme.fields[MAX_FIELDS].range.start.line);
+  if (scheme.params.length > MAX_PARAMS) throw new Unsupported(`more than ${MAX_PARAMS} params`, scheme.params[MAX_PARAMS].range.start.line);
+  const update = updateGraph(scheme);
+  checkVectorisable(update, dtype);
+  const notes: string[] = [];
+  const lets = scheme.lets.map((l, k) => {
+    if (l.kind !== 'expr') return null;
+    try {
+      const lg = letGraph(scheme, k);
+      checkVectorisable(lg, dtype);
+      return lg;
+    } catch (err) {
+      if (!(err instanceof Unsupported)) throw err;
+      notes.push(`let ${k + 1} in js: ${err.message}`);
+      return null;
+    }
+  });
+  return { update, lets, notes, twoD: scheme.dims === 2 };
+}
+
+export class WasmBackend implements KernelBackend {
+  readonly name = 'wasm';
+  private readonly cache = new Map<string, CompiledScheme>();
+  constructor(private readonly opts: WasmOptions = {}, private readonly js: JsBackend = jsBackend) {}
+
+  compile(scheme: CheckedScheme, opts: { dtype: DType }): CompiledScheme {
+    const key = `${opts.dtype}\n${canonicalScheme(scheme)}`;
+    const hit = this.cache.get(key);
+    if (hit) {
+      this.cache.delete(key);
+      this.cache.set(key, hit);
+      return hit;
+    }
+    const js = this.js.compile(scheme, opts);
+    let compiled: CompiledScheme;
+    try {
+      const plan = buildPlan(scheme, opts.dtype);
+      compiled = new WasmCompiled(opts.dtype, `wasm-${opts.dtype}-${hashText(key)}`, js, plan, this.opts);
+    } catch (err) {
+      if (!(err instanceof Unsupported)) throw err;
+      compiled = new Fallback(js, err.message);
+    }
+    this.cache.set(key, compiled);
+    if (this.cache.size > CACHE_LIMIT) this.cache.delete(this.cache.keys().next().value as string);
+    return compiled;
+  }
+}
+
+/** The automatic choice: SIMD kernels where the scheme allows, two threads on large images. */
+export const wasmBackend = new WasmBackend();

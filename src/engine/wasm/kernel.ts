@@ -1,0 +1,323 @@
+// Emits one WebAssembly SIMD kernel function from a kernel graph (ir.ts): loop-invariant parts in scalar Float64
+// once per call (the same arithmetic as the JavaScript backend's hoisted code), the per-pixel part in f32x4 or f64x2
+// lanes over a band of rows, with the monitors' min/max. Also owns the memory layout every kernel assumes.
+// Must not import vscode, the DOM or Node modules.
+
+import type { DType } from '../types';
+import { F64, FnBody, I32, Op, Simd, V128, type ValType } from './emit';
+import { type KernelGraph, type Node, Unsupported } from './ir';
+
+/** Byte address of the run values every kernel reads: f64 dt, t, then the params. */
+export const PARAMS_AT = 64;
+export const MAX_PARAMS = 240;
+/** Per thread: f64 (min, max) per field, written by update kernels. */
+export const MONITOR_AT = 4096;
+export const MAX_FIELDS = 64;
+export const MONITOR_BYTES = MAX_FIELDS * 16;
+export const MAX_THREADS = 4;
+/** Buffers start after this (plus a halo's worth of bytes, so that base + relative offsets never go below 0). */
+export const BUFFERS_AT = MONITOR_AT + MAX_THREADS * MONITOR_BYTES;
+
+/** Functions of Math the invariant (scalar) prologue calls; the same functions the JavaScript backend calls. */
+export const IMPORTS = ['exp', 'log', 'sin', 'cos', 'tanh', 'sign', 'pow'] as const;
+
+/** A buffer a kernel reads or writes: current field (c), next field (d) or let (l). */
+export interface BufId {
+  readonly kind: 'c' | 'd' | 'l';
+  readonly index: number;
+}
+
+export interface KernelGeometry {
+  readonly pw: number;
+  readonly hx: number;
+  readonly hy: number;
+}
+
+export interface EmittedKernel {
+  readonly body: FnBody;
+  /** One i32 base-address argument per entry, in this order, then x0, x1, y0, y1, monitor address. */
+  readonly bufs: readonly BufId[];
+}
+
+const F32_LANES = {
+  splat: Simd.f32x4Splat, add: Simd.f32x4Add, sub: Simd.f32x4Sub, mul: Simd.f32x4Mul, div: Simd.f32x4Div,
+  min: Simd.f32x4Min, max: Simd.f32x4Max, neg: Simd.f32x4Neg, abs: Simd.f32x4Abs, sqrt: Simd.f32x4Sqrt,
+  lt: Simd.f32x4Lt, le: Simd.f32x4Le, gt: Simd.f32x4Gt, ge: Simd.f32x4Ge, eq: Simd.f32x4Eq, ne: Simd.f32x4Ne,
+};
+const F64_LANES = {
+  splat: Simd.f64x2Splat, add: Simd.f64x2Add, sub: Simd.f64x2Sub, mul: Simd.f64x2Mul, div: Simd.f64x2Div,
+  min: Simd.f64x2Min, max: Simd.f64x2Max, neg: Simd.f64x2Neg, abs: Simd.f64x2Abs, sqrt: Simd.f64x2Sqrt,
+  lt: Simd.f64x2Lt, le: Simd.f64x2Le, gt: Simd.f64x2Gt, ge: Simd.f64x2Ge, eq: Simd.f64x2Eq, ne: Simd.f64x2Ne,
+};
+
+const VOID = 0x40;
+
+/** Throws Unsupported for per-pixel operations without a vector form (they run on the JavaScript backend). */
+export function checkVectorisable(kg: KernelGraph, dtype: DType): void {
+  for (const n of reachable(kg).variant) {
+    const name = n.op === 'pow' ? '^ with a non-constant or non-integer exponent' : `${n.op}()`;
+    if (n.op === 'log' || n.op === 'sin' || n.op === 'cos' || n.op === 'tanh' || n.op === 'pow') throw new Unsupported(name, n.line);
+    if (n.op === 'exp' && dtype === 'float64') throw new Unsupported('exp() in Float64', n.line);
+  }
+}
+
+function reachable(kg: KernelGraph): { variant: Node[]; scalar: Node[]; frontier: Node[] } {
+  const nodes = kg.graph.nodes;
+  const seenV = new Set<number>(), seenS = new Set<number>(), front = new Set<number>();
+  const walkS = (id: number): void => {
+    if (seenS.has(id)) return;
+    seenS.add(id);
+    for (const a of nodes[id].args) walkS(a);
+  };
+  const walkV = (id: number): void => {
+    const n = nodes[id];
+    if (n.inv) {
+      front.add(id);
+      walkS(id);
+      return;
+    }
+    if (seenV.has(id)) return;
+    seenV.add(id);
+    for (const a of n.args) walkV(a);
+  };
+  for (const s of kg.stores) walkV(s.node);
+  const byId = (s: Set<number>) => [...s].sort((a, b) => a - b).map(i => nodes[i]);
+  return { variant: byId(seenV), scalar: byId(seenS), frontier: byId(front) };
+}
+
+/**
+ * The kernel: for y in [y0, y1), x in [x0, x1) by lanes (the last vector of a row overlaps the one before it, which
+ * recomputes and rewrites the same values, so x1 - x0 must be at least the lane count), stores = graph values.
+ * `target` says where stores go: the next field buffers (update) or the let buffer.
+ */
+export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, target: 'd' | 'l', monitors: boolean): EmittedKernel {
+  checkVectorisable(kg, dtype);
+  const f32 = dtype === 'float32';
+  const T = f32 ? F32_LANES : F64_LANES;
+  const L = f32 ? 4 : 2, bytes = f32 ? 4 : 8, shift = f32 ? 2 : 3, align = f32 ? 2 : 3;
+  const nodes = kg.graph.nodes;
+  const { variant, scalar, frontier } = reachable(kg);
+
+  // Buffers in first-use order.
+  const bufs: BufId[] = [];
+  const bufIndex = new Map<string, number>();
+  const useBuf = (b: BufId): number => {
+    const key = b.kind + b.index;
+    let k = bufIndex.get(key);
+    if (k === undefined) {
+      k = bufs.push(b) - 1;
+      bufIndex.set(key, k);
+    }
+    return k;
+  };
+  for (const n of variant) if (n.op === 'load' && n.buf) useBuf(n.buf);
+  const storeBufs = kg.stores.map(s => useBuf({ kind: target, index: s.field }));
+
+  const nb = bufs.length;
+  const fb = new FnBody([...bufs.map((): ValType => I32), I32, I32, I32, I32, I32], []);
+  const X0 = nb, X1 = nb + 1, Y0 = nb + 2, Y1 = nb + 3, MON = nb + 4;
+  const constV = (x: number) => fb.v128c(f32 ? [x, x, x, x] : [x, x], f32 ? 'f32' : 'f64');
+
+  // ---- prologue: invariant values in Float64, then the ones the lanes use, splatted.
+  const sLocal = new Map<number, number>();
+  const sget = (id: number) => fb.get(sLocal.get(id) as number);
+  const call = (name: (typeof IMPORTS)[number]) => fb.op(Op.call).code.u32(IMPORTS.indexOf(name));
+  for (const n of scalar) {
+    const a = n.args;
+    switch (n.op) {
+      case 'num': sLocal.set(n.id, sLocal.get(a[0]) as number); continue;
+      case 'const': fb.f64c(n.value); break;
+      case 'param': fb.i32c(0).mem(Op.f64Load, 3, PARAMS_AT + 16 + 8 * n.value); break;
+      case 'dt': fb.i32c(0).mem(Op.f64Load, 3, PARAMS_AT); break;
+      case 't': fb.i32c(0).mem(Op.f64Load, 3, PARAMS_AT + 8); break;
+      case 'neg': sget(a[0]).op(Op.f64Neg); break;
+      case 'abs': sget(a[0]).op(Op.f64Abs); break;
+      case 'sqrt': sget(a[0]).op(Op.f64Sqrt); break;
+      case 'exp': case 'log': case 'sin': case 'cos': case 'tanh': case 'sign': sget(a[0]); call(n.op); break;
+      case 'pow': sget(a[0]); sget(a[1]); call('pow'); break;
+      case 'add': sget(a[0]); sget(a[1]).op(Op.f64Add); break;
+      case 'sub': sget(a[0]); sget(a[1]).op(Op.f64Sub); break;
+      case 'mul': sget(a[0]); sget(a[1]).op(Op.f64Mul); break;
+      case 'div': sget(a[0]); sget(a[1]).op(Op.f64Div); break;
+      case 'min': sget(a[0]); sget(a[1]).op(Op.f64Min); break;
+      case 'max': sget(a[0]); sget(a[1]).op(Op.f64Max); break;
+      case 'lt': case 'le': case 'gt': case 'ge': case 'eq': case 'ne': {
+        const op = { lt: Op.f64Lt, le: Op.f64Le, gt: Op.f64Gt, ge: Op.f64Ge, eq: Op.f64Eq, ne: Op.f64Ne }[n.op];
+        sget(a[0]); sget(a[1]).op(op, Op.f64ConvertI32S);
+        break;
+      }
+      // Invariant truth values are 0 or 1 in Float64.
+      case 'truth': sget(a[0]).f64c(0).op(Op.f64Ne, Op.f64ConvertI32S); break;
+      case 'and': sget(a[0]); sget(a[1]).op(Op.f64Mul); break;
+      case 'or': sget(a[0]); sget(a[1]).op(Op.f64Max); break;
+      case 'not': fb.f64c(1); sget(a[0]).op(Op.f64Sub); break;
+      case 'select': sget(a[1]); sget(a[2]); sget(a[0]).f64c(0).op(Op.f64Ne, Op.select); break;
+      default: throw new Unsupported(`${n.op} in an invariant part`, n.line);
+    }
+    const l = fb.local(F64);
+    fb.set(l);
+    sLocal.set(n.id, l);
+  }
+  const vLocal = new Map<number, number>();
+  for (const n of frontier) {
+    sget(n.id);
+    if (f32) fb.op(Op.f32DemoteF64);
+    fb.simd(T.splat);
+    if (n.mask) {
+      constV(0);
+      fb.simd(T.ne);
+    }
+    const l = fb.local(V128);
+    fb.set(l);
+    vLocal.set(n.id, l);
+  }
+
+  // ---- per-pixel part.
+  const uses = new Map<number, number>();
+  for (const n of variant) for (const a of n.args) uses.set(a, (uses.get(a) ?? 0) + 1);
+  for (const s of kg.stores) uses.set(s.node, (uses.get(s.node) ?? 0) + 1);
+
+  const y = fb.local(I32), x = fb.local(I32), rel = fb.local(I32), xlast = fb.local(I32);
+  const addr = bufs.map(() => fb.local(I32));
+  const mn = monitors ? kg.stores.map(() => fb.local(V128)) : [];
+  const mx = monitors ? kg.stores.map(() => fb.local(V128)) : [];
+  const sv = fb.local(V128);
+  const usesY = variant.some(n => n.op === 'y');
+  const yv = usesY ? fb.local(V128) : -1;
+  const tmp: number[] = [];
+  const done = new Set<number>();
+
+  const emit = (id: number): void => {
+    const n = nodes[id];
+    const held = vLocal.get(id);
+    if (held !== undefined && (n.inv || done.has(id))) {
+      fb.get(held);
+      return;
+    }
+    const a = n.args;
+    switch (n.op) {
+      case 'load': {
+        const b = n.buf as { kind: 'c' | 'l'; index: number };
+        const imm = (((n.dy ?? 0) + geo.hy) * geo.pw + (n.dx ?? 0) + geo.hx) * bytes;
+        fb.get(addr[bufIndex.get(b.kind + b.index) as number]).mem(Simd.load, align, imm, true);
+        break;
+      }
+      case 'x':
+        fb.get(x).simd(Simd.i32x4Splat).v128c(f32 ? [0, 1, 2, 3] : [0, 1, 0, 0], 'i32').simd(Simd.i32x4Add);
+        fb.simd(f32 ? Simd.f32x4ConvertI32x4S : Simd.f64x2ConvertLowI32x4S);
+        break;
+      case 'y': fb.get(yv); break;
+      case 'neg': case 'abs': case 'sqrt': emit(a[0]); fb.simd(T[n.op]); break;
+      case 'add': case 'sub': case 'mul': case 'div': case 'min': case 'max':
+      case 'lt': case 'le': case 'gt': case 'ge': case 'eq': case 'ne':
+        emit(a[0]); emit(a[1]); fb.simd(T[n.op]); break;
+      case 'and': emit(a[0]); emit(a[1]); fb.simd(Simd.and); break;
+      case 'or': emit(a[0]); emit(a[1]); fb.simd(Simd.or); break;
+      case 'not': emit(a[0]); fb.simd(Simd.not); break;
+      case 'num': emit(a[0]); constV(1); fb.simd(Simd.and); break;
+      case 'truth': emit(a[0]); constV(0); fb.simd(T.ne); break;
+      case 'select': emit(a[1]); emit(a[2]); emit(a[0]); fb.simd(Simd.bitselect); break;
+      case 'sign': {
+        // Math.sign: 1 above zero, -1 below, the value itself for ±0 and NaN.
+        const s = scratch();
+        emit(a[0]);
+        fb.set(s);
+        constV(1); constV(-1); fb.get(s).get(s); constV(0); fb.simd(T.lt).simd(Simd.bitselect);
+        fb.get(s); constV(0); fb.simd(T.gt).simd(Simd.bitselect);
+        release(s);
+        break;
+      }
+      case 'exp': emitExp32(a[0]); break;
+      default: throw new Unsupported(`${n.op}()`, n.line);
+    }
+    if ((uses.get(id) ?? 0) > 1) {
+      const l = fb.local(V128);
+      fb.tee(l);
+      vLocal.set(id, l);
+      done.add(id);
+    }
+  };
+
+  const scratch = (): number => tmp.pop() ?? fb.local(V128);
+  const release = (l: number): void => {
+    tmp.push(l);
+  };
+
+  /**
+   * exp in Float32 lanes: x = n·ln2 + r with |r| ≤ ln2/2 (ln2 split in two parts), a degree-7 polynomial for e^r,
+   * and 2^n built in the exponent bits; about 2 ulps. Arguments are clamped to [-87.3, 88.3] and x > 88.72 gives
+   * +Infinity; NaN stays NaN. (Between 88.3 and 88.72 the result is too small; such values are blow-ups anyway.)
+   */
+  function emitExp32(arg: number): void {
+    const xin = scratch(), fx = scratch(), r = scratch();
+    emit(arg);
+    fb.tee(xin);
+    constV(-87.3); fb.simd(Simd.f32x4Max); constV(88.3); fb.simd(Simd.f32x4Min);
+    fb.tee(r);
+    constV(1.44269504088896341); fb.simd(Simd.f32x4Mul).simd(Simd.f32x4Nearest).set(fx);
+    fb.get(r).get(fx); constV(0.693359375); fb.simd(Simd.f32x4Mul).simd(Simd.f32x4Sub);
+    fb.get(fx); constV(-2.12194440e-4); fb.simd(Simd.f32x4Mul).simd(Simd.f32x4Sub).set(r);
+    constV(1.9875691500e-4); fb.get(r).simd(Simd.f32x4Mul);
+    for (const c of [1.3981999507e-3, 8.3334519073e-3, 4.1665795894e-2, 1.6666665459e-1, 5.0000001201e-1]) {
+      constV(c); fb.simd(Simd.f32x4Add).get(r).simd(Simd.f32x4Mul);
+    }
+    fb.get(r).simd(Simd.f32x4Mul).get(r).simd(Simd.f32x4Add);
+    constV(1); fb.simd(Simd.f32x4Add);
+    fb.get(fx).simd(Simd.i32x4TruncSatF32x4S).v128c([127, 127, 127, 127], 'i32').simd(Simd.i32x4Add);
+    fb.i32c(23).simd(Simd.i32x4Shl).simd(Simd.f32x4Mul).set(r);
+    constV(Infinity); fb.get(r).get(xin); constV(88.72283905206835); fb.simd(Simd.f32x4Gt).simd(Simd.bitselect);
+    release(r); release(fx); release(xin);
+  }
+
+  // ---- loops.
+  for (let k = 0; k < mn.length; k++) {
+    constV(Infinity); fb.set(mn[k]);
+    constV(-Infinity); fb.set(mx[k]);
+  }
+  fb.get(Y0).set(y);
+  fb.op(Op.block, VOID);
+  fb.get(y).get(Y1).op(Op.i32GeS, Op.brIf).code.u32(0);
+  fb.get(X1).i32c(L).op(Op.i32Sub).set(xlast);
+  fb.op(Op.loop, VOID);
+  if (usesY) {
+    fb.get(y).simd(Simd.i32x4Splat).simd(f32 ? Simd.f32x4ConvertI32x4S : Simd.f64x2ConvertLowI32x4S).set(yv);
+  }
+  fb.get(X0).set(x);
+  fb.op(Op.loop, VOID);
+  fb.get(y).i32c(geo.pw).op(Op.i32Mul).get(x).op(Op.i32Add).i32c(shift).op(Op.i32Shl).set(rel);
+  bufs.forEach((_, k) => fb.get(k).get(rel).op(Op.i32Add).set(addr[k]));
+  kg.stores.forEach((s, k) => {
+    emit(s.node);
+    fb.set(sv);
+    fb.get(addr[storeBufs[k]]).get(sv).mem(Simd.store, align, (geo.hy * geo.pw + geo.hx) * bytes, true);
+    if (monitors) {
+      fb.get(mn[k]).get(sv).simd(T.min).set(mn[k]);
+      fb.get(mx[k]).get(sv).simd(T.max).set(mx[k]);
+    }
+  });
+  // Advance: stop after the vector that ends the row, else step by L but never past x1 - L.
+  fb.op(Op.block, VOID);
+  fb.get(x).get(xlast).op(Op.i32GeS, Op.brIf).code.u32(0);
+  fb.get(x).i32c(L).op(Op.i32Add).tee(x).get(xlast).op(Op.i32GtS, Op.if, VOID);
+  fb.get(xlast).set(x);
+  fb.op(Op.end, Op.br).code.u32(1);
+  fb.op(Op.end);
+  fb.op(Op.end); // columns loop
+  fb.get(y).i32c(1).op(Op.i32Add).tee(y).get(Y1).op(Op.i32LtS, Op.brIf).code.u32(0);
+  fb.op(Op.end); // rows loop
+  fb.op(Op.end); // block: an empty band still reports its (empty) monitors
+  // Monitors: reduce the lanes and store (min, max) as Float64 at the monitor address.
+  kg.stores.forEach((s, k) => {
+    if (!monitors) return;
+    for (const [v, off, red] of [[mn[k], 0, 'min'], [mx[k], 8, 'max']] as const) {
+      fb.get(MON);
+      for (let lane = 0; lane < L; lane++) {
+        fb.get(v).simd(f32 ? Simd.f32x4Extract : Simd.f64x2Extract).code.u8(lane);
+        if (lane > 0) fb.op(f32 ? (red === 'min' ? Op.f32Min : Op.f32Max) : red === 'min' ? Op.f64Min : Op.f64Max);
+      }
+      if (f32) fb.op(Op.f64PromoteF32);
+      fb.mem(Op.f64Store, 3, s.field * 16 + off);
+    }
+  });
+  return { body: fb, bufs };
+}
