@@ -14,12 +14,14 @@ import type { SourceRange } from '../notation/ast';
 import { createRun, EngineError, type RunImage, type RunWarning } from '../engine';
 import { guard, parseCommandLine, UsageError } from './args';
 import { formatDiagnostic } from './check';
+import { bestStepTracker, pictureField } from '../tune/evaluate';
 
 const USAGE = [
   'usage: fluxel run FILE [--input PATH [--range LO:HI] | --scene NAME [--noise SIGMA] [--seed N]] [--size WxH]',
   '                  [--set NAME=VALUE ...] [--steps N] [--float64] [--field NAME] [--extremum-check]',
-  '                  --output PATH [--frames DIR --every K] [--stats PATH]',
+  '                  --output PATH [--frames DIR --every K] [--stats PATH [--metric psnr|ssim]]',
   '  --set also accepts dt=VALUE; without --input or --scene, image fields use the survey scene.',
+  '  With a scene, --stats gets `best`: the step (any step, not only recorded frames) maximising --metric (default psnr).',
 ].join('\n');
 
 const OPTIONS = {
@@ -38,6 +40,7 @@ const OPTIONS = {
   frames: { type: 'string' },
   every: { type: 'string' },
   stats: { type: 'string' },
+  metric: { type: 'string' },
   help: { type: 'boolean', short: 'h' },
 } as const;
 
@@ -192,8 +195,16 @@ export function runMain(argv: string[]): Promise<number> {
       b.start(run.steps, 0);
       bar = b;
     }
+    // Best step over every step, not only the recorded frames: measured after each step (src/tune/evaluate.ts).
+    const metric = (o.metric ?? 'psnr').toLowerCase();
+    if (metric !== 'psnr' && metric !== 'ssim') throw new UsageError(`--metric takes psnr or ssim, got '${o.metric}'.\n${USAGE}`);
+    const tracker = reference && o.stats && (metric === 'psnr' || (run.geometry.width >= 11 && run.geometry.height >= 11))
+      ? bestStepTracker(reference, metric, pictureField(scheme), run) : null;
     const result = await run.run({
-      onProgress: step => bar?.update(step),
+      onProgress: step => {
+        tracker?.measure(step);
+        bar?.update(step);
+      },
       onWarning: w => {
         // The bar and the warning lines share stderr: stop the bar so the warning is not overdrawn.
         bar?.stop();
@@ -222,7 +233,7 @@ export function runMain(argv: string[]): Promise<number> {
         stepSeconds: result.stepSeconds,
         frames: result.frames,
         warnings: result.warnings.map(w => ({ ...w, range: jsonRange(w.range) })),
-        ...(result.best ? { best: result.best } : {}),
+        ...(tracker?.best() ? { best: tracker.best() } : result.best ? { best: result.best } : {}),
         sourceHash: createHash('sha256').update(text).digest('hex'),
         ...(seed !== undefined ? { seed } : {}),
       };

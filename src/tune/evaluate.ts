@@ -3,7 +3,7 @@
 // Imports the engine and the metrics only; must not import Node modules, vscode or the DOM (it runs in workers).
 
 import { psnr, ssim, SSIM_WINDOW, type MetricImage } from '../analysis/metrics';
-import { createRun, type RunImage } from '../engine';
+import { createRun, middleRow, type RunImage } from '../engine';
 import type { CheckedScheme } from '../notation/scheme';
 
 export type MetricName = 'psnr' | 'ssim';
@@ -33,6 +33,11 @@ export interface EvaluationTask {
 export function pictureField(scheme: CheckedScheme): number {
   const img = scheme.fields.findIndex((f) => f.init.kind === 'image');
   return img >= 0 ? img : Math.max(0, scheme.fields.findIndex((f) => f.updated));
+}
+
+/** The reference a run is measured against: in 1d the engine runs on the picture's middle row, so that row. */
+export function referenceFor(scheme: CheckedScheme, reference: RunImage): RunImage {
+  return scheme.dims === 1 && reference.height > 1 ? middleRow(reference) : reference;
 }
 
 /** A metric function with the reference converted to Float64 once. Throws for SSIM on images under 11×11. */
@@ -69,7 +74,7 @@ export function evaluateSetting(scheme: CheckedScheme, task: EvaluationTask, set
   }
   const run = createRun(scheme, { image: task.image, params, dt, steps: task.steps, dtype: task.dtype ?? 'float32' });
   const k = pictureField(scheme);
-  const measure = metricAgainst(task.reference, task.metric);
+  const measure = metricAgainst(referenceFor(scheme, task.reference), task.metric);
   const values = new Float64Array(task.steps + 1).fill(Number.NaN);
   values[0] = measure(run.fieldData(k));
   let status: Curve['status'] = 'done';
@@ -83,4 +88,34 @@ export function evaluateSetting(scheme: CheckedScheme, task: EvaluationTask, set
   }
   const b = argBest(values);
   return { values, bestStep: b.step, best: b.value, status };
+}
+
+/** The `best` entry of `fluxel run --stats`: the step maximising the chosen metric, with PSNR beside it. */
+export interface BestStep {
+  readonly step: number;
+  readonly psnr: number;
+  readonly ssim?: number;
+  readonly metric: MetricName;
+}
+
+/**
+ * Follows a run step by step and keeps the step with the largest metric (earliest on ties); step 0 is
+ * measured at once. `measure(step)` must be called after each step; NaN values (a blow-up) never win.
+ */
+export function bestStepTracker(reference: RunImage, metric: MetricName, field: number, run: { readonly scheme: CheckedScheme; fieldData(k: number): Float32Array | Float64Array }) {
+  const ref = referenceFor(run.scheme, reference);
+  const score = metricAgainst(ref, metric);
+  const psnrOf = metric === 'psnr' ? score : metricAgainst(ref, 'psnr');
+  let best: BestStep | null = null;
+  let bestValue = Number.NaN;
+  const measure = (step: number) => {
+    const data = run.fieldData(field);
+    const v = score(data);
+    if (v === v && (best === null || v > bestValue)) {
+      bestValue = v;
+      best = metric === 'psnr' ? { step, psnr: v, metric } : { step, psnr: psnrOf(data), ssim: v, metric };
+    }
+  };
+  measure(0);
+  return { measure, best: (): BestStep | null => best };
 }
