@@ -69,17 +69,6 @@ export interface KernelReport {
   readonly impulse: ImpulseResponse | null;
 }
 
-/**
- * A 1-d scheme sees a single row (contracts.md §2, "In 1d the field is a single row"): an image's middle row,
- * or a one-pixel-tall image as is. The analysis (stabilityState.ts) takes the same row.
- */
-export function rowForScheme(scheme: CheckedScheme, image: RunImage): RunImage {
-  if (scheme.dims !== 1 || image.height <= 1) return image;
-  const row = Math.floor(image.height / 2);
-  const data = Float64Array.from({ length: image.width }, (_, x) => image.data[row * image.width + x]);
-  return { width: image.width, height: 1, data };
-}
-
 /** Grid lines: a header of dx offsets, then one row per dy (y grows downwards, like image rows). */
 export function formatWeightGrid(k: KernelWeights, dims: 1 | 2): string[] {
   const r = k.radius;
@@ -251,7 +240,7 @@ export function kernelMain(argv: string[]): Promise<number> {
       }
       throw err;
     }
-    if (image) image = rowForScheme(scheme, image);
+    // A 1d scheme runs on the image's middle row: the engine picks it (middleRow), the same row as the analysis.
 
     let run;
     try {
