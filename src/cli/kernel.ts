@@ -69,6 +69,12 @@ export interface KernelReport {
   readonly impulse: ImpulseResponse | null;
 }
 
+function minimum(a: ArrayLike<number>): number {
+  let m = Infinity;
+  for (let k = 0; k < a.length; k++) if (a[k] < m) m = a[k];
+  return m;
+}
+
 /** Grid lines: a header of dx offsets, then one row per dy (y grows downwards, like image rows). */
 export function formatWeightGrid(k: KernelWeights, dims: 1 | 2): string[] {
   const r = k.radius;
@@ -113,14 +119,22 @@ function textReport(rep: KernelReport, scheme: CheckedScheme): string {
   const ir = rep.impulse;
   if (ir) {
     const axes = scheme.dims === 2 ? ['x', 'y'] : ['x'];
+    const drift = ir.mean.some((m) => Math.abs(m) > 1e-9);
     lines.push(
       `impulse response of the linear scheme after ${ir.steps} step${ir.steps === 1 ? '' : 's'} (t = ${fmt(ir.t)}): ` +
-        `mass ${fmt(ir.sum)}, ` + axes.map((a, i) => `variance ${a} ${fmt(ir.variance[i])}`).join(', ') + ' (cells²)',
+        `mass ${fmt(ir.sum)}, ` +
+        (drift ? `centre of mass moved by (${ir.mean.map(fmt).join(', ')}) cells, ` : '') +
+        axes.map((a, i) => `variance ${a} ${fmt(ir.variance[i])}`).join(', ') + ' (cells²)',
     );
     lines.push(
       `  equivalent Gaussian σ ${axes.map((a, i) => `${a} ${fmt(ir.sigma[i])}`).join(', ')} vs √(2t) = ${fmt(ir.heatSigma)}` +
         ` (the width of the heat kernel for u_t = Δu)${ir.truncated ? '; the response was cut at the grid edge' : ''}`,
     );
+    const least = minimum(ir.grid);
+    // A response with negative lobes (waves, sharpening) is no smoothing kernel: its σ is only a second moment.
+    if (least < -1e-12 * Math.max(1, Math.abs(ir.sum))) {
+      lines.push(`  the response has negative values (minimum ${fmt(least)}): it is not a smoothing kernel, so σ is only its second moment`);
+    }
   }
   return lines.join('\n');
 }
@@ -148,7 +162,7 @@ function jsonReport(rep: KernelReport, scheme: CheckedScheme): Record<string, un
     negativeCentre: k.negativeCentre,
     ...(ir ? {
       impulse: {
-        steps: ir.steps, t: ir.t, sum: ir.sum, mean: ir.mean, variance: ir.variance, sigma: ir.sigma,
+        steps: ir.steps, t: ir.t, sum: ir.sum, min: minimum(ir.grid), mean: ir.mean, variance: ir.variance, sigma: ir.sigma,
         heatSigma: ir.heatSigma, truncated: ir.truncated,
       },
     } : {}),

@@ -123,6 +123,27 @@ describe('impulseResponse', () => {
     expect(r!.truncated).toBe(false);
   });
 
+  // Common practice: the upwind step u' = (1 − ν)u + ν u[−1] moves each unit of mass one cell right with
+  // probability ν, so after n steps the response is Binomial(n, ν): mean nν, variance nν(1 − ν) (the numerical
+  // diffusion of upwinding; LeVeque, Finite Difference Methods for ODEs and PDEs, 2007, ch. 10, modified equations;
+  // section number from memory).
+  it('1d upwind: the response drifts by nν cells with variance nν(1 − ν)', () => {
+    const s = scheme(`grid 1d
+spacing 1
+boundary periodic
+param c = 0.8 in [0, 2]
+step dt = 1
+steps 10
+field u = image
+u' = u - dt * c / h * (u - u[-1])
+`);
+    const r = impulseResponse(s, 60);
+    expect(r).not.toBeNull();
+    close(r!.sum, 1, 1e-12, 'mass');
+    close(r!.mean[0], 60 * 0.8, 1e-9, 'drift nν');
+    close(r!.variance[0], 60 * 0.8 * 0.2, 1e-9, 'variance nν(1 − ν)');
+  });
+
   it('returns null for a nonlinear scheme', () => {
     const s = scheme(`grid 1d
 spacing 1
