@@ -10,6 +10,7 @@ type Command = (argv: string[]) => Promise<number>;
 const COMMANDS: Record<string, { summary: string; load: () => Promise<Command> }> = {
   check: { summary: 'check a scheme: diagnostics and the stability verdict', load: async () => checkMain },
   run: { summary: 'run a scheme on an image or a generated scene and write the result', load: async () => (await import('./run')).runMain },
+  export: { summary: 'write the scheme as C, NumPy, Dask or JavaScript code', load: async () => (await import('./export')).exportMain },
   kernel: { summary: 'the weights a pixel is updated with at a step, and the impulse response', load: async () => (await import('./kernel')).kernelMain },
   compare: { summary: 'image quality of IMG against REF: MSE, PSNR, SSIM', load: async () => (await import('./compare')).compareMain },
   sweep: { summary: 'run a grid of parameter settings, measure every step, write CSV, JSON and a heat map', load: async () => (await import('./sweep')).sweepMain },
