@@ -10,6 +10,7 @@ import type { Core } from './core';
 import { StabilityDetails } from './details';
 import { DiagnosticManager } from './diagnostics';
 import { registerHover } from './hover';
+import { registerPreview } from './preview/index';
 import { registerQuickFixes } from './quickFixes';
 import { SchemeRunner } from './runner';
 import { VerdictStatus } from './status';
@@ -57,6 +58,7 @@ export function activate(context: vscode.ExtensionContext): FluxelApi {
     registerQuickFixes(manager),
     registerHover(manager, loadCore),
     registerCommands({ manager, details, runner, loadCore, output }),
+    registerPreview(context, log),
   );
   const activationMs = performance.now() - t0;
   log(`activated in ${activationMs.toFixed(1)} ms (host time in activate)`);

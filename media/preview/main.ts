@@ -1,0 +1,750 @@
+// The live run's webview: builds the panel (input, verdict, picture with now/start/change views, scrubber, knobs,
+// weights at a pixel, findings, charts, caution), draws the frames the host sends and posts user intents back.
+// Rendering and controls only: every number shown arrives from the host; labels and mappings live in viewModel.ts.
+// Imports only the shared protocol and sibling modules (never src/engine, analysis, notation or images).
+
+import 'uplot/dist/uPlot.min.css';
+import './preview.css';
+import { validateToPreview, type FromPreview, type KnobSpec, type ToPreview, type WireFinding, type WireRange, type InputChoice, type SceneName, SCENE_NAMES } from '../../src/protocol/preview';
+import { LineChart } from './charts';
+import { divergingCss, divergingTable, labToRgb, luminance, NEGATIVE_END, POSITIVE_END } from './colour';
+import { restoreState, type UiState } from './state';
+import {
+  changeScale, findingLine, findingText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint,
+  panBy, seriesOf, seriesSummary, SLIDER_STEPS, sliderFromValue, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt, type ViewMode, type ViewTransform,
+} from './viewModel';
+
+// ------------------------------------------------------------------------------------------------ host link
+
+const vscode = acquireVsCodeApi<UiState>();
+const SOURCE = document.body.dataset.source ?? '';
+const FILE_NAME = document.body.dataset.fileName ?? '';
+
+type Intent = { [K in FromPreview.Type['type']]: Omit<Extract<FromPreview.Type, { type: K }>, 'source'> }[FromPreview.Type['type']];
+
+/** The typed poster: stamps `source` on every intent. */
+function post(msg: Intent): void {
+  vscode.postMessage({ ...msg, source: SOURCE });
+}
+
+let state: UiState = restoreState(vscode.getState(), SOURCE);
+function save(patch: Partial<UiState>): void {
+  state = { ...state, ...patch };
+  vscode.setState(state);
+}
+
+// ------------------------------------------------------------------------------------------------ DOM helpers
+
+function h<K extends keyof HTMLElementTagNameMap>(tag: K, props: Record<string, string> = {}, ...children: (Node | string)[]): HTMLElementTagNameMap[K] {
+  const el = document.createElement(tag);
+  for (const [k, v] of Object.entries(props)) {
+    if (k === 'text') el.textContent = v;
+    else if (k === 'class') el.className = v;
+    else el.setAttribute(k, v);
+  }
+  for (const c of children) el.append(c);
+  return el;
+}
+
+function button(label: string, aria: string, onClick: () => void, cls = ''): HTMLButtonElement {
+  const b = h('button', { type: 'button', 'aria-label': aria, title: aria, class: cls, text: label });
+  b.addEventListener('click', onClick);
+  return b;
+}
+
+// ------------------------------------------------------------------------------------------------ layout
+
+const verdictEl = h('span', { class: 'verdict', role: 'status', 'aria-live': 'polite', text: 'checking…' });
+const sceneSel = h('select', { id: 'input-scene', 'aria-label': 'input picture' });
+const SCENE_TEXT: Record<SceneName, string> = { survey: 'survey tile', cells: 'cell slide', card: 'test card' };
+for (const s of SCENE_NAMES) sceneSel.append(h('option', { value: s, text: SCENE_TEXT[s] }));
+const fileOption = h('option', { value: 'file', text: 'image file' });
+sceneSel.append(fileOption);
+const noiseIn = h('input', { id: 'input-noise', type: 'number', min: '0', max: '1', step: '0.01', 'aria-label': 'noise level (Gaussian sigma)' });
+const seedIn = h('input', { id: 'input-seed', type: 'number', min: '0', step: '1', 'aria-label': 'noise seed' });
+const chooseBtn = button('choose image…', 'choose an image file to run on', () => post({ type: 'chooseImage' }));
+const header = h('header', { class: 'bar' },
+  h('label', { for: 'input-scene', text: 'input' }), sceneSel,
+  h('label', { for: 'input-noise', text: 'noise' }), noiseIn,
+  h('label', { for: 'input-seed', text: 'seed' }), seedIn,
+  chooseBtn,
+  h('span', { class: 'spacer' }),
+  verdictEl,
+);
+
+const problemsEl = h('div', { class: 'problems', role: 'alert', hidden: '' });
+const noticeEl = h('div', { class: 'notice', role: 'status', hidden: '' });
+
+const canvas = h('canvas', { class: 'picture', tabindex: '0', role: 'img', 'aria-label': 'the field at the current step' });
+const readout = h('span', { class: 'readout', 'aria-live': 'off', text: 'hover the picture: x, y, value' });
+const viewButtons = new Map<ViewMode, HTMLButtonElement>();
+const viewBar = h('div', { class: 'views', role: 'group', 'aria-label': 'show' }, h('span', { text: 'show:' }));
+for (const [mode, label, key] of [['now', 'now', 'n'], ['start', 'start', 's'], ['change', 'change', 'c']] as const) {
+  const b = button(label, `show ${label} (key ${key})`, () => setView(mode), 'toggle');
+  b.setAttribute('aria-keyshortcuts', key);
+  viewButtons.set(mode, b);
+  viewBar.append(b);
+}
+viewBar.append(button('fit', 'fit the picture (key 0)', () => { fitView(); draw(); }));
+const legendEl = h('div', { class: 'legend', 'aria-hidden': 'true' });
+const stage = h('div', { class: 'stage' }, canvas);
+const left = h('section', { class: 'left', 'aria-label': 'picture' }, viewBar, stage, h('div', { class: 'under' }, readout, legendEl));
+
+const stepEl = h('div', { class: 'step-label', 'aria-live': 'off', text: 'no run yet' });
+const scrub = h('input', { type: 'range', min: '0', max: '0', value: '0', step: '1', 'aria-label': 'step' });
+const playBtn = button('▶ play', 'play or pause (key space)', () => togglePlay());
+const scrubber = h('div', { class: 'scrubber' },
+  stepEl,
+  h('div', { class: 'row' },
+    button('⏮', 'first step (key Home)', () => showIndex(0)),
+    button('◀', 'previous recorded step (key ←)', () => showIndex(current - 1)),
+    playBtn,
+    button('▶|', 'next recorded step (key →)', () => showIndex(current + 1)),
+    button('⏭', 'last step (key End)', () => showIndex(store.last)),
+  ),
+  scrub,
+);
+const fieldSel = h('select', { id: 'field', 'aria-label': 'field shown' });
+const fieldRow = h('div', { class: 'row', hidden: '' }, h('label', { for: 'field', text: 'field' }), fieldSel);
+const knobsEl = h('div', { class: 'knobs' });
+const writeBtn = button('write knobs into the file', 'write the knob values into the scheme file (one undoable edit)', () => post({ type: 'writeKnobs', values: knobValues, dt: knobDt }));
+const resetBtn = button('file values', 'set the knobs back to the values in the file', () => resetKnobs());
+const knobsSection = h('section', { class: 'card', 'aria-labelledby': 'knobs-h' }, h('h2', { id: 'knobs-h', text: 'knobs' }), knobsEl, h('div', { class: 'row' }, writeBtn, resetBtn));
+const weightsTitle = h('h2', { id: 'weights-h', text: 'weights' });
+const weightsEl = h('div', { class: 'weights', text: 'click a pixel to see the weights it is updated with' });
+const impulseEl = h('div', { class: 'impulse' });
+const weightsSection = h('section', { class: 'card', 'aria-labelledby': 'weights-h' }, weightsTitle, weightsEl, impulseEl);
+const right = h('section', { class: 'right', 'aria-label': 'controls' }, scrubber, fieldRow, knobsSection, weightsSection);
+
+const findingsEl = h('ul', { class: 'findings' });
+const findingsSection = h('section', { class: 'card', 'aria-labelledby': 'findings-h' }, h('h2', { id: 'findings-h', text: 'findings' }), findingsEl);
+const chartRange = h('div', { class: 'chart' });
+const chartPsnr = h('div', { class: 'chart' });
+const chartRow = h('div', { class: 'chart' });
+const rangeTitle = h('h3', { text: 'range and mean' });
+const psnrTitle = h('h3', { text: 'PSNR against clean' });
+const rowTitle = h('h3', { text: 'row profile (pick a pixel)' });
+const rangeSummary = h('p', { class: 'sr-only' });
+const psnrBox = h('figure', { class: 'chart-box' }, psnrTitle, chartPsnr);
+const charts = h('section', { class: 'charts', 'aria-label': 'charts' },
+  h('figure', { class: 'chart-box' }, rangeTitle, chartRange, rangeSummary),
+  psnrBox,
+  h('figure', { class: 'chart-box' }, rowTitle, chartRow),
+);
+const footer = h('footer', { class: 'caution', text: 'Filtered images can lose or gain small structures. Not for diagnostic use.' });
+
+const main = h('main', { class: 'grid' }, left, right);
+document.body.append(header, problemsEl, noticeEl, main, findingsSection, charts, footer);
+document.title = `Fluxel · ${FILE_NAME}`;
+
+// ------------------------------------------------------------------------------------------------ run state
+
+const store = new FrameStore();
+let current = 0;
+/** While true the picture follows the newest frame of a running run; scrubbing turns it off. */
+let follow = true;
+let playing = false;
+let playTimer: number | null = null;
+let transform: ViewTransform | null = state.zoom;
+let win = { lo: 0, hi: 1 };
+let scheme: ToPreview.Scheme | null = null;
+let knobValues: Record<string, number> = {};
+let knobDt = 0;
+let verdict: ToPreview.Verdict | null = null;
+let weights: ToPreview.Weights | null = null;
+let profile: ToPreview.Profile | null = null;
+let restoredKnobs = state.knobs;
+const off = document.createElement('canvas');
+let diverging = divergingTable(isDark());
+
+function isDark(): boolean {
+  return document.body.classList.contains('vscode-dark') || document.body.classList.contains('vscode-high-contrast') && !document.body.classList.contains('vscode-high-contrast-light');
+}
+
+// ------------------------------------------------------------------------------------------------ picture
+
+function setView(mode: ViewMode): void {
+  save({ view: mode });
+  for (const [m, b] of viewButtons) b.setAttribute('aria-pressed', String(m === mode));
+  updateLegend();
+  draw();
+}
+
+function updateLegend(): void {
+  if (state.view !== 'change') {
+    legendEl.textContent = `grey ${fmt(win.lo, 3)} … ${fmt(win.hi, 3)}`;
+    legendEl.style.backgroundImage = '';
+    return;
+  }
+  const f = store.frames[current];
+  const s = f && store.frames[0] ? changeScale(f.data, store.frames[0].data) : 0;
+  const neg = labToRgb(NEGATIVE_END);
+  const pos = labToRgb(POSITIVE_END);
+  legendEl.textContent = `change −${fmt(s, 3)} … 0 … +${fmt(s, 3)}`;
+  legendEl.style.backgroundImage = `linear-gradient(to right, rgb(${neg.join(',')}), ${divergingCss(diverging, 0, 1)}, rgb(${pos.join(',')}))`;
+  legendEl.style.color = luminance(labToRgb([70, 0, 0])) > 0.3 && !isDark() ? '#000' : '';
+}
+
+function canvasSize(): { w: number; hgt: number } {
+  const r = stage.getBoundingClientRect();
+  return { w: Math.max(64, Math.floor(r.width)), hgt: Math.max(64, Math.floor(r.height)) };
+}
+
+function fitView(): void {
+  const s = store.started;
+  if (!s) return;
+  const { w, hgt } = canvasSize();
+  transform = fitTransform(s.frameWidth, spaceTimeRows(), w, hgt);
+  save({ zoom: transform });
+}
+
+/** 1-D schemes draw a space–time picture: one row per recorded step. */
+function spaceTimeRows(): number {
+  const s = store.started;
+  if (!s) return 1;
+  return s.height === 1 ? Math.max(1, store.frames.length) : s.frameHeight;
+}
+
+function draw(): void {
+  const s = store.started;
+  const ctx = canvas.getContext('2d');
+  if (!ctx) return;
+  const { w, hgt } = canvasSize();
+  const dpr = window.devicePixelRatio || 1;
+  if (canvas.width !== Math.round(w * dpr) || canvas.height !== Math.round(hgt * dpr)) {
+    canvas.width = Math.round(w * dpr);
+    canvas.height = Math.round(hgt * dpr);
+    canvas.style.width = `${w}px`;
+    canvas.style.height = `${hgt}px`;
+  }
+  ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
+  ctx.clearRect(0, 0, w, hgt);
+  const f = store.frames[current];
+  const f0 = store.frames[0];
+  if (!s || !f || !f0) return;
+  const oneD = s.height === 1;
+  const fw = f.width;
+  const fh = oneD ? current + 1 : f.height;
+  if (!transform) fitView();
+  const t = transform as ViewTransform;
+  off.width = fw;
+  off.height = oneD ? spaceTimeRows() : fh;
+  const octx = off.getContext('2d');
+  if (!octx) return;
+  if (oneD) {
+    // Rows 0..current of the space–time picture; each row is one recorded step.
+    const img = octx.createImageData(fw, current + 1);
+    const scale = state.view === 'change' ? Math.max(1e-300, ...store.frames.slice(0, current + 1).map((fr) => changeScale(fr.data, f0.data))) : 0;
+    for (let r = 0; r <= current; r++) {
+      const row = new Uint8ClampedArray(fw * 4);
+      paint(row, state.view, store.frames[r].data, f0.data, win, diverging, scale);
+      img.data.set(row, r * fw * 4);
+    }
+    octx.putImageData(img, 0, 0);
+  } else {
+    const img = octx.createImageData(fw, fh);
+    paint(img.data, state.view, f.data, f0.data, win, diverging, state.view === 'change' ? changeScale(f.data, f0.data) : 0);
+    octx.putImageData(img, 0, 0);
+  }
+  ctx.imageSmoothingEnabled = false;
+  ctx.drawImage(off, 0, 0, off.width, off.height, t.offsetX, t.offsetY, off.width * t.scale, off.height * t.scale);
+  // The picked pixel: one accent ring, at least a few screen pixels wide.
+  if (state.picked) {
+    const p = framePixelOf(state.picked.x, state.picked.y, s);
+    const py = oneD ? current : p.fy;
+    const size = Math.max(t.scale, 7);
+    const cx = t.offsetX + (p.fx + 0.5) * t.scale;
+    const cy = t.offsetY + (py + 0.5) * t.scale;
+    ctx.lineWidth = 2;
+    ctx.strokeStyle = getComputedStyle(document.body).getPropertyValue('--vscode-focusBorder').trim() || '#0a84ff';
+    ctx.strokeRect(cx - size / 2 - 1, cy - size / 2 - 1, size + 2, size + 2);
+  }
+  canvas.setAttribute('aria-label', `${state.view} view of ${f.field}, ${stepLabel(f.step, s.steps, f.t)}; min ${fmt(f.stats.min)}, max ${fmt(f.stats.max)}, mean ${fmt(f.stats.mean)}`);
+}
+
+let dragging: { x: number; y: number; moved: boolean } | null = null;
+canvas.addEventListener('wheel', (e) => {
+  e.preventDefault();
+  const s = store.started;
+  if (!s || !transform) return;
+  const r = canvas.getBoundingClientRect();
+  const { w, hgt } = canvasSize();
+  const fit = fitTransform(s.frameWidth, spaceTimeRows(), w, hgt);
+  transform = zoomAt(transform, e.deltaY < 0 ? 1.25 : 0.8, e.clientX - r.left, e.clientY - r.top, Math.min(1, fit.scale));
+  save({ zoom: transform });
+  draw();
+}, { passive: false });
+canvas.addEventListener('pointerdown', (e) => {
+  dragging = { x: e.clientX, y: e.clientY, moved: false };
+  canvas.setPointerCapture(e.pointerId);
+});
+canvas.addEventListener('pointermove', (e) => {
+  const r = canvas.getBoundingClientRect();
+  if (dragging && transform) {
+    const dx = e.clientX - dragging.x;
+    const dy = e.clientY - dragging.y;
+    if (dragging.moved || Math.abs(dx) + Math.abs(dy) > 3) {
+      dragging.moved = true;
+      transform = panBy(transform, dx, dy);
+      dragging.x = e.clientX;
+      dragging.y = e.clientY;
+      draw();
+    }
+  }
+  hover(e.clientX - r.left, e.clientY - r.top);
+});
+canvas.addEventListener('pointerup', (e) => {
+  const d = dragging;
+  dragging = null;
+  if (d?.moved) {
+    save({ zoom: transform });
+    return;
+  }
+  const r = canvas.getBoundingClientRect();
+  pick(e.clientX - r.left, e.clientY - r.top);
+});
+canvas.addEventListener('pointerleave', () => { readout.textContent = 'hover the picture: x, y, value'; });
+
+function pixelUnder(sx: number, sy: number): { x: number; y: number; value: number; step: number } | null {
+  const s = store.started;
+  const f = store.frames[current];
+  if (!s || !f || !transform) return null;
+  const oneD = s.height === 1;
+  const p = framePixelAt(transform, sx, sy, f.width, oneD ? current + 1 : f.height);
+  if (!p) return null;
+  const frame = oneD ? store.frames[p.fy] : f;
+  const full = fullPixel(p.fx, oneD ? 0 : p.fy, s);
+  const base = store.frames[0];
+  const v = frame.data[(oneD ? 0 : p.fy) * f.width + p.fx];
+  const value = state.view === 'change' ? v - base.data[(oneD ? 0 : p.fy) * f.width + p.fx] : state.view === 'start' ? base.data[(oneD ? 0 : p.fy) * f.width + p.fx] : v;
+  return { x: full.x, y: full.y, value, step: frame.step };
+}
+
+function hover(sx: number, sy: number): void {
+  const p = pixelUnder(sx, sy);
+  const s = store.started;
+  if (!p || !s) {
+    readout.textContent = '';
+    return;
+  }
+  const approx = s.frameWidth < s.width ? '≈ ' : '';
+  readout.textContent = `x ${p.x}, y ${p.y}${s.height === 1 ? `, step ${p.step}` : ''}: ${state.view === 'change' ? 'change ' : ''}${approx}${fmt(p.value, 5)}`;
+}
+
+function pick(sx: number, sy: number): void {
+  const p = pixelUnder(sx, sy);
+  if (!p) return;
+  pickPixel(p.x, p.y, p.step);
+}
+
+function pickPixel(x: number, y: number, step: number): void {
+  save({ picked: { x, y }, row: y });
+  post({ type: 'pickPixel', runId: store.runId, step, x, y });
+  post({ type: 'requestProfile', runId: store.runId, step, row: y });
+  weightsTitle.textContent = `weights at (${x}, ${y}), step ${step}`;
+  draw();
+}
+
+// ------------------------------------------------------------------------------------------------ scrubber
+
+function showIndex(i: number, byUser = true): void {
+  if (!store.frames.length) return;
+  const k = Math.max(0, Math.min(store.last, i));
+  if (byUser) follow = k === store.last && !store.ended ? true : false;
+  current = k;
+  scrub.value = String(k);
+  const f = store.frames[k];
+  const s = store.started;
+  stepEl.textContent = s ? stepLabel(f.step, s.steps, f.t) : '';
+  scrub.setAttribute('aria-valuetext', stepEl.textContent);
+  save({ step: f.step });
+  if (state.view === 'change') updateLegend();
+  draw();
+  scheduleCharts();
+  if (state.row !== null && byUser) requestProfileSoon();
+}
+
+let profileTimer: number | null = null;
+function requestProfileSoon(): void {
+  if (profileTimer !== null) return;
+  profileTimer = window.setTimeout(() => {
+    profileTimer = null;
+    const f = store.frames[current];
+    if (f && state.row !== null) post({ type: 'requestProfile', runId: store.runId, step: f.step, row: state.row });
+  }, 60);
+}
+
+scrub.addEventListener('input', () => showIndex(Number(scrub.value)));
+
+function togglePlay(): void {
+  playing = !playing;
+  playBtn.textContent = playing ? '⏸ pause' : '▶ play';
+  playBtn.setAttribute('aria-pressed', String(playing));
+  if (playTimer !== null) window.clearInterval(playTimer);
+  playTimer = null;
+  if (playing) {
+    if (current >= store.last) showIndex(0);
+    playTimer = window.setInterval(() => {
+      if (current >= store.last) {
+        if (store.ended) togglePlay();
+        return;
+      }
+      showIndex(current + 1);
+    }, 80);
+  }
+}
+
+// ------------------------------------------------------------------------------------------------ knobs
+
+function knobRow(spec: KnobSpec, value: number, limit: number | null, onChange: (v: number) => void): HTMLElement {
+  const id = `knob-${spec.name}`;
+  const slider = h('input', { id, type: 'range', min: '0', max: String(SLIDER_STEPS), step: '1', value: String(sliderFromValue(spec, value)) });
+  const num = h('input', { type: 'number', step: 'any', value: String(value), 'aria-label': `${spec.name} value`, class: 'knob-num' });
+  const span = knobSpan(spec);
+  slider.setAttribute('aria-valuetext', fmt(value));
+  const hint = h('span', { class: 'hint', text: `${fmt(span.lo)} … ${fmt(span.hi)}${limit !== null ? ` · limit ${fmt(limit)}` : ''}` });
+  let pending: number | null = null;
+  const send = (v: number) => {
+    num.value = String(v);
+    slider.setAttribute('aria-valuetext', fmt(v));
+    if (pending !== null) window.clearTimeout(pending);
+    pending = window.setTimeout(() => { pending = null; onChange(v); }, 40);
+  };
+  slider.addEventListener('input', () => send(valueFromSlider(spec, Number(slider.value))));
+  num.addEventListener('change', () => {
+    const v = Number(num.value);
+    if (!Number.isFinite(v) || (spec.name === 'dt' && v <= 0)) return;
+    slider.value = String(sliderFromValue(spec, v));
+    send(v);
+  });
+  return h('div', { class: 'knob' }, h('label', { for: id, text: spec.name }), slider, num, hint);
+}
+
+function renderKnobs(): void {
+  knobsEl.replaceChildren();
+  if (!scheme) return;
+  for (const k of scheme.knobs) {
+    knobsEl.append(knobRow(k, knobValues[k.name] ?? k.value, null, (v) => { knobValues = { ...knobValues, [k.name]: v }; sendKnobs(); }));
+  }
+  const limit = verdict?.verdict.limit ?? null;
+  knobsEl.append(knobRow(scheme.dt, knobDt, limit, (v) => { knobDt = v; sendKnobs(); }));
+}
+
+function sendKnobs(): void {
+  save({ knobs: { values: knobValues, dt: knobDt } });
+  post({ type: 'setKnobs', values: knobValues, dt: knobDt });
+}
+
+function resetKnobs(): void {
+  if (!scheme) return;
+  knobValues = Object.fromEntries(scheme.knobs.map((k) => [k.name, k.value]));
+  knobDt = scheme.dt.value;
+  renderKnobs();
+  sendKnobs();
+}
+
+// ------------------------------------------------------------------------------------------------ input
+
+function renderInput(input: InputChoice, label: string): void {
+  if (input.kind === 'scene') {
+    sceneSel.value = input.scene;
+    noiseIn.value = String(input.noise);
+    seedIn.value = String(input.seed);
+    fileOption.textContent = 'image file';
+  } else {
+    fileOption.textContent = `image: ${label}`;
+    sceneSel.value = 'file';
+  }
+  noiseIn.disabled = input.kind !== 'scene';
+  seedIn.disabled = input.kind !== 'scene';
+}
+
+function sendInput(): void {
+  if (sceneSel.value === 'file') {
+    post({ type: 'chooseImage' });
+    return;
+  }
+  const noise = Math.max(0, Math.min(1, Number(noiseIn.value) || 0));
+  const seed = Math.max(0, Math.min(4294967295, Math.floor(Number(seedIn.value) || 0)));
+  post({ type: 'setInput', input: { kind: 'scene', scene: sceneSel.value as SceneName, noise, seed } });
+}
+sceneSel.addEventListener('change', sendInput);
+noiseIn.addEventListener('change', sendInput);
+seedIn.addEventListener('change', sendInput);
+fieldSel.addEventListener('change', () => post({ type: 'showField', field: fieldSel.value }));
+
+// ------------------------------------------------------------------------------------------------ findings and verdict
+
+function reveal(range: WireRange): void {
+  post({ type: 'reveal', range });
+}
+
+function renderVerdict(): void {
+  if (!verdict) return;
+  const v = verdictLabel(verdict.verdict);
+  verdictEl.textContent = `● ${v.text}  ${v.detail}`;
+  verdictEl.dataset.tone = v.tone;
+  renderFindings();
+}
+
+function renderFindings(): void {
+  findingsEl.replaceChildren();
+  for (const f of store.findings) {
+    const b = button(`▲ ${findingText(f)}  → ${findingLine(f)}`, `${findingText(f)}; go to step ${f.step}, mark the pixel and reveal ${findingLine(f)}`, () => openFinding(f), 'finding');
+    b.dataset.kind = f.kind;
+    findingsEl.append(h('li', { class: 'warn' }, b));
+  }
+  if (verdict) {
+    const v = verdict.verdict;
+    const label = verdictLabel(v);
+    findingsEl.append(h('li', { class: label.tone === 'error' ? 'warn' : 'info', text: `i  ${label.text}: ${v.reason}` }));
+  }
+  if (store.ended && store.ended.status === 'failed' && store.ended.message) findingsEl.append(h('li', { class: 'warn', text: `the run failed: ${store.ended.message}` }));
+  if (!findingsEl.childElementCount) findingsEl.append(h('li', { class: 'info', text: 'no findings' }));
+}
+
+function openFinding(f: WireFinding): void {
+  const i = store.indexAtOrBefore(f.step);
+  follow = false;
+  showIndex(i, false);
+  pickPixel(f.x, f.y, store.frames[i]?.step ?? f.step);
+  reveal(f.range);
+}
+
+// ------------------------------------------------------------------------------------------------ weights
+
+function renderWeights(w: ToPreview.Weights): void {
+  weightsTitle.textContent = `weights at (${w.x}, ${w.y}), step ${w.step}`;
+  const table = h('table', { class: 'wgrid', 'aria-label': `weights of ${w.field} at (${w.x}, ${w.y})` });
+  for (const row of weightRows(w)) {
+    const tr = h('tr');
+    for (const c of row) {
+      const td = h('td', { text: c.text, title: `offset (${c.dx}, ${c.dy}): ${c.weight}` });
+      const rgb: [number, number, number] = [diverging[c.colour * 3], diverging[c.colour * 3 + 1], diverging[c.colour * 3 + 2]];
+      td.style.backgroundColor = `rgb(${rgb.join(',')})`;
+      td.style.color = luminance(rgb) > 0.25 ? '#000' : '#fff';
+      if (c.centre) td.classList.add('centre');
+      if (c.centre && w.negativeCentre) td.classList.add('negative');
+      tr.append(td);
+    }
+    table.append(tr);
+  }
+  const facts = h('div', { class: 'facts' },
+    h('span', { text: `sum ${fmt(w.sum, 4)}` }),
+    h('span', { text: `centre ${fmt(w.centre, 4)}` }),
+    h('span', { text: `new value ${fmt(w.value, 5)}` }),
+  );
+  if (w.negativeCentre) facts.append(h('strong', { class: 'neg', text: '▲ negative centre weight: this pixel is pushed away from its own value (over the limit here)' }));
+  if (w.others) facts.append(h('span', { text: `and ${w.others} weights on other fields` }));
+  weightsEl.replaceChildren(table, facts);
+}
+
+function renderImpulse(m: ToPreview.Impulse): void {
+  const sig = m.sigma.map((s) => fmt(s, 4)).join(' × ');
+  impulseEl.textContent = `impulse response after ${m.steps} steps (t = ${fmt(m.t)}): σ = ${sig} vs √(2t) = ${fmt(m.heatSigma, 4)}${m.truncated ? ' (clipped at the edge)' : ''}`;
+}
+
+// ------------------------------------------------------------------------------------------------ charts
+
+const rangeChart = new LineChart(chartRange, [
+  { label: 'min', colourVar: '--vscode-charts-blue', fallback: '#3b7ddd' },
+  { label: 'max', colourVar: '--vscode-charts-red', fallback: '#d9534f' },
+  { label: 'mean', colourVar: '--vscode-charts-foreground', fallback: '#888', dash: [4, 3] },
+], 'step');
+const psnrChart = new LineChart(chartPsnr, [{ label: 'PSNR dB', colourVar: '--vscode-charts-green', fallback: '#3c9d5d' }], 'step');
+const rowChart = new LineChart(chartRow, [
+  { label: 'start', colourVar: '--vscode-charts-foreground', fallback: '#888', dash: [3, 3], width: 1 },
+  { label: 'now', colourVar: '--vscode-charts-orange', fallback: '#d98c1f' },
+], 'x');
+
+let chartsQueued = false;
+function scheduleCharts(): void {
+  if (chartsQueued) return;
+  chartsQueued = true;
+  requestAnimationFrame(() => {
+    chartsQueued = false;
+    renderCharts();
+  });
+}
+
+function renderCharts(): void {
+  const s = store.started;
+  if (!s) return;
+  const ser = seriesOf(store.frames, s.hasReference);
+  const now = store.frames[current]?.step ?? 0;
+  const cur = { x: now, colourVar: '--vscode-focusBorder', fallback: '#0a84ff' };
+  rangeChart.set(ser.steps, [ser.min, ser.max, ser.mean], [cur]);
+  rangeSummary.textContent = seriesSummary(ser);
+  psnrBox.hidden = !ser.psnr;
+  if (ser.psnr) {
+    psnrTitle.textContent = ser.best ? `PSNR against clean · best at step ${ser.best.step} (${fmt(ser.best.psnr, 4)} dB)` : 'PSNR against clean';
+    psnrChart.set(ser.steps, [ser.psnr], ser.best ? [cur, { x: ser.best.step, colourVar: '--vscode-charts-green', fallback: '#3c9d5d' }] : [cur]);
+  }
+  if (profile && profile.runId === store.runId) {
+    rowTitle.textContent = `row ${profile.row}: start and step ${profile.step}`;
+    const xs = Array.from({ length: profile.before.length }, (_, i) => i);
+    rowChart.set(xs, [Array.from(profile.before), Array.from(profile.after)]);
+  }
+}
+
+// ------------------------------------------------------------------------------------------------ messages
+
+function onMessage(msg: ToPreview.Type): void {
+  if (msg.source !== SOURCE) return;
+  switch (msg.type) {
+    case 'scheme': {
+      scheme = msg;
+      knobValues = { ...msg.current.values };
+      knobDt = msg.current.dt;
+      // Knob values remembered across a reload are sent once, if they still fit this scheme.
+      if (restoredKnobs) {
+        const r = restoredKnobs;
+        restoredKnobs = null;
+        const names = msg.knobs.map((k) => k.name);
+        const differs = r.dt !== knobDt || names.some((n) => r.values[n] !== undefined && r.values[n] !== knobValues[n]);
+        if (names.every((n) => typeof r.values[n] === 'number') && differs) {
+          knobValues = Object.fromEntries(names.map((n) => [n, r.values[n]]));
+          knobDt = r.dt;
+          post({ type: 'setKnobs', values: knobValues, dt: knobDt });
+        }
+      }
+      renderKnobs();
+      renderInput(msg.input, msg.inputLabel);
+      fieldSel.replaceChildren(...msg.fields.map((f) => h('option', { value: f, text: f })));
+      fieldRow.hidden = msg.fields.length < 2;
+      document.title = `Fluxel · ${msg.fileName}`;
+      return;
+    }
+    case 'runStarted': {
+      const newRun = msg.runId !== store.runId;
+      store.begin(msg);
+      if (newRun) {
+        follow = true;
+        weights = null;
+      }
+      fieldSel.value = msg.field;
+      scrub.max = '0';
+      if (state.view === 'change') updateLegend();
+      return;
+    }
+    case 'frame': {
+      const i = store.add(msg);
+      if (i < 0) return;
+      if (i === 0) {
+        win = greyWindow(msg.data);
+        updateLegend();
+        if (!transform) fitView();
+      }
+      scrub.max = String(store.last);
+      if (follow || (state.step >= 0 && msg.step === state.step)) showIndex(i, false);
+      else scheduleCharts();
+      return;
+    }
+    case 'finding':
+      if (store.addFinding(msg)) renderFindings();
+      return;
+    case 'runEnded':
+      if (msg.runId !== store.runId) return;
+      store.ended = msg;
+      if (msg.status === 'blow-up') verdictEl.dataset.tone = 'error';
+      if (msg.status === 'failed') showNotice(`The run failed: ${msg.message ?? 'unknown error'}`, 'error');
+      renderFindings();
+      scheduleCharts();
+      return;
+    case 'verdict':
+      if (msg.runId !== store.runId) return;
+      verdict = msg;
+      renderVerdict();
+      renderKnobs();
+      return;
+    case 'problems':
+      if (msg.first) {
+        const first = msg.first;
+        problemsEl.replaceChildren(
+          h('span', { text: `${msg.count} error${msg.count === 1 ? '' : 's'} in the scheme; showing the last good run. ` }),
+          button(`line ${first.range.start.line}: ${first.message}`, `reveal the first error, line ${first.range.start.line}`, () => reveal(first.range), 'link'),
+        );
+        problemsEl.hidden = false;
+        document.body.classList.add('stale');
+      } else {
+        problemsEl.hidden = true;
+        document.body.classList.remove('stale');
+      }
+      return;
+    case 'weights':
+      if (msg.runId !== store.runId) return;
+      weights = msg;
+      renderWeights(msg);
+      return;
+    case 'impulse':
+      if (msg.runId !== store.runId) return;
+      renderImpulse(msg);
+      return;
+    case 'profile':
+      if (msg.runId !== store.runId) return;
+      profile = msg;
+      scheduleCharts();
+      return;
+    case 'notice':
+      showNotice(msg.text, msg.level);
+      return;
+  }
+}
+
+function showNotice(text: string, level: 'info' | 'error'): void {
+  noticeEl.textContent = text;
+  noticeEl.dataset.level = level;
+  noticeEl.hidden = false;
+}
+
+window.addEventListener('message', (e: MessageEvent) => {
+  const msg = validateToPreview(e.data);
+  if (msg) onMessage(msg);
+});
+
+document.addEventListener('keydown', (e) => {
+  const t = e.target as HTMLElement | null;
+  if (t && (t.tagName === 'INPUT' || t.tagName === 'SELECT' || t.tagName === 'TEXTAREA') || e.ctrlKey || e.metaKey || e.altKey) return;
+  if (t && t.tagName === 'BUTTON' && (e.key === ' ' || e.key === 'Enter')) return;
+  const a = keyAction(e.key);
+  if (!a) return;
+  e.preventDefault();
+  switch (a.kind) {
+    case 'view': setView(a.mode); break;
+    case 'play': togglePlay(); break;
+    case 'step': showIndex(current + a.by); break;
+    case 'first': showIndex(0); break;
+    case 'last': showIndex(store.last); break;
+    case 'fit': fitView(); draw(); break;
+    case 'zoom': {
+      if (!transform) break;
+      const { w, hgt } = canvasSize();
+      transform = zoomAt(transform, a.factor, w / 2, hgt / 2, 0.05);
+      save({ zoom: transform });
+      draw();
+      break;
+    }
+  }
+});
+
+new ResizeObserver(() => {
+  draw();
+  rangeChart.resize();
+  psnrChart.resize();
+  rowChart.resize();
+}).observe(stage);
+
+// Theme changes swap the body class: recompute the change map's middle and the chart colours.
+new MutationObserver(() => {
+  diverging = divergingTable(isDark());
+  updateLegend();
+  draw();
+  rangeChart.refresh();
+  psnrChart.refresh();
+  rowChart.refresh();
+  if (weights) renderWeights(weights);
+}).observe(document.body, { attributes: true, attributeFilter: ['class'] });
+
+setView(state.view);
+renderFindings();
+post({ type: 'ready' });

@@ -1,0 +1,389 @@
+// Messages between the extension host and the live-run webview: two discriminated unions on `type`, each message
+// stamped with `source` (the scheme's document URI) and, where it belongs to a run, `runId` (so stale frames drop).
+// Also the validators each side applies on receipt: a message that fails them is ignored, never trusted.
+// Imported by both sides (src/extension/preview and media/); must not import Node, the DOM, vscode or other Fluxel folders.
+
+/** A source range, 1-based lines and UTF-16 columns, `end` exclusive (the `check --json` shape). */
+export interface WireRange {
+  readonly start: { readonly line: number; readonly column: number };
+  readonly end: { readonly line: number; readonly column: number };
+}
+
+export const SCENE_NAMES = ['survey', 'cells', 'card'] as const;
+export type SceneName = (typeof SCENE_NAMES)[number];
+
+/** What the scheme runs on: a generated scene (noisy input, clean reference) or an image file (a URI string). */
+export type InputChoice =
+  | { readonly kind: 'scene'; readonly scene: SceneName; readonly noise: number; readonly seed: number }
+  | { readonly kind: 'file'; readonly uri: string };
+
+/** One knob: a `param` with its declared range (null bounds when the file gives none). */
+export interface KnobSpec {
+  readonly name: string;
+  readonly value: number;
+  readonly lo: number | null;
+  readonly hi: number | null;
+}
+
+export type VerdictMethod = 'von-neumann' | 'positivity' | 'linearised' | 'none';
+
+export interface WireVerdict {
+  readonly method: VerdictMethod;
+  readonly limit: number | null;
+  readonly dt: number;
+  readonly stable: boolean;
+  readonly reason: string;
+  readonly estimate: boolean;
+  readonly unconditional: boolean;
+  readonly positivityLimit: number | null;
+  readonly diffusionLimit: number | null;
+}
+
+export type FindingKind = 'blow-up' | 'new-extremum' | 'growth';
+
+export interface WireFinding {
+  readonly kind: FindingKind;
+  readonly step: number;
+  readonly x: number;
+  readonly y: number;
+  readonly field: string;
+  readonly message: string;
+  readonly range: WireRange;
+}
+
+export interface WireStats {
+  readonly min: number;
+  readonly max: number;
+  readonly mean: number;
+}
+
+export namespace ToPreview {
+  interface Base { readonly source: string }
+
+  /** The checked scheme's knobs and shape; sent after every successful check (before its run starts). */
+  export interface Scheme extends Base {
+    readonly type: 'scheme';
+    readonly fileName: string;
+    readonly dims: 1 | 2;
+    readonly fields: readonly string[];
+    readonly knobs: readonly KnobSpec[];
+    readonly dt: KnobSpec;
+    readonly steps: number;
+    /** The knob values the next run uses (declared values unless the user moved them). */
+    readonly current: { readonly values: Readonly<Record<string, number>>; readonly dt: number };
+    readonly input: InputChoice;
+    readonly inputLabel: string;
+  }
+  /** A run begins: sizes of the full-resolution grid and of the frames that will be posted. */
+  export interface RunStarted extends Base {
+    readonly type: 'runStarted';
+    readonly runId: number;
+    readonly width: number;
+    readonly height: number;
+    readonly frameWidth: number;
+    readonly frameHeight: number;
+    readonly steps: number;
+    readonly every: number;
+    readonly dt: number;
+    readonly field: string;
+    readonly hasReference: boolean;
+  }
+  /** One recorded step of the shown field, row-major, downsampled when the grid exceeds the preview size. */
+  export interface Frame extends Base {
+    readonly type: 'frame';
+    readonly runId: number;
+    readonly field: string;
+    readonly step: number;
+    readonly t: number;
+    readonly width: number;
+    readonly height: number;
+    readonly data: Float32Array;
+    readonly stats: WireStats;
+    readonly psnr: number | null;
+  }
+  export interface Finding extends Base { readonly type: 'finding'; readonly runId: number; readonly finding: WireFinding }
+  export interface RunEnded extends Base {
+    readonly type: 'runEnded';
+    readonly runId: number;
+    readonly status: 'done' | 'cancelled' | 'blow-up' | 'failed';
+    readonly stepsDone: number;
+    readonly best: { readonly step: number; readonly psnr: number } | null;
+    readonly message: string | null;
+  }
+  /** The static verdict for the knob values of run `runId`. */
+  export interface Verdict extends Base { readonly type: 'verdict'; readonly runId: number; readonly verdict: WireVerdict }
+  /** The file has errors (the last good run stays, dimmed), or `first` is null once it checks clean again. */
+  export interface Problems extends Base {
+    readonly type: 'problems';
+    readonly count: number;
+    readonly first: { readonly message: string; readonly code: string; readonly range: WireRange } | null;
+  }
+  /** Weights at (x, y), step n, computed on the full-resolution state. */
+  export interface Weights extends Base {
+    readonly type: 'weights';
+    readonly runId: number;
+    readonly step: number;
+    readonly x: number;
+    readonly y: number;
+    readonly field: string;
+    readonly radius: number;
+    readonly dims: 1 | 2;
+    /** Row-major (2r+1)^dims weights on the field's own old values. */
+    readonly grid: readonly number[];
+    readonly sum: number;
+    readonly centre: number;
+    readonly negativeCentre: boolean;
+    readonly value: number;
+    /** Weights on other fields (coupled schemes), as text lines. */
+    readonly others: number;
+  }
+  /** For linear schemes: the N-step impulse response's spread against the heat kernel's √(2t). */
+  export interface Impulse extends Base {
+    readonly type: 'impulse';
+    readonly runId: number;
+    readonly steps: number;
+    readonly t: number;
+    readonly sigma: readonly number[];
+    readonly heatSigma: number;
+    readonly sum: number;
+    readonly truncated: boolean;
+  }
+  /** A row of the shown field at full resolution, at step 0 and at `step`. */
+  export interface Profile extends Base {
+    readonly type: 'profile';
+    readonly runId: number;
+    readonly row: number;
+    readonly step: number;
+    readonly before: Float32Array;
+    readonly after: Float32Array;
+  }
+  /** A request could not be served (e.g. the image file could not be read); shown in the panel, not as a toast. */
+  export interface Notice extends Base { readonly type: 'notice'; readonly level: 'info' | 'error'; readonly text: string }
+  export type Type = Scheme | RunStarted | Frame | Finding | RunEnded | Verdict | Problems | Weights | Impulse | Profile | Notice;
+}
+
+export namespace FromPreview {
+  interface Base { readonly source: string }
+  /** The page has loaded and listens; the host replies with the current scheme and replays the current run. */
+  export interface Ready extends Base { readonly type: 'ready' }
+  export interface SetKnobs extends Base { readonly type: 'setKnobs'; readonly values: Readonly<Record<string, number>>; readonly dt: number }
+  /** Writes the knob values into the file as one undoable edit. */
+  export interface WriteKnobs extends Base { readonly type: 'writeKnobs'; readonly values: Readonly<Record<string, number>>; readonly dt: number }
+  export interface SetInput extends Base { readonly type: 'setInput'; readonly input: InputChoice }
+  /** Opens the host's file picker for an image. */
+  export interface ChooseImage extends Base { readonly type: 'chooseImage' }
+  export interface ShowField extends Base { readonly type: 'showField'; readonly field: string }
+  /** Click on a pixel (full-resolution coordinates) of the frame at `step`. */
+  export interface PickPixel extends Base { readonly type: 'pickPixel'; readonly runId: number; readonly step: number; readonly x: number; readonly y: number }
+  export interface RequestProfile extends Base { readonly type: 'requestProfile'; readonly runId: number; readonly step: number; readonly row: number }
+  /** Reveal a source range in the editor with the range selected. */
+  export interface Reveal extends Base { readonly type: 'reveal'; readonly range: WireRange }
+  export interface Rerun extends Base { readonly type: 'rerun' }
+  export type Type = Ready | SetKnobs | WriteKnobs | SetInput | ChooseImage | ShowField | PickPixel | RequestProfile | Reveal | Rerun;
+}
+
+// ------------------------------------------------------------------------------------------------ validation
+// Hand-written checks, one per message: the field list of each type is short, and a schema library would cost
+// more bundle size than these lines. Every check returns the message rebuilt from checked fields only, so unknown
+// extra properties never travel further.
+
+type Obj = Record<string, unknown>;
+const isObj = (v: unknown): v is Obj => typeof v === 'object' && v !== null && !Array.isArray(v);
+const num = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
+const numOrNull = (v: unknown): v is number | null => v === null || num(v);
+const int = (v: unknown, min = 0): v is number => typeof v === 'number' && Number.isInteger(v) && v >= min;
+const str = (v: unknown, max = 100_000): v is string => typeof v === 'string' && v.length <= max;
+const NAME = /^[A-Za-z_][A-Za-z0-9_]*$/;
+const name = (v: unknown): v is string => str(v, 200) && NAME.test(v);
+
+/** Largest seed and noise the panel accepts (scenes take seeds as unsigned 32-bit integers). */
+export const MAX_SEED = 4294967295;
+export const MAX_NOISE = 1;
+
+function range(v: unknown): WireRange | null {
+  if (!isObj(v) || !isObj(v.start) || !isObj(v.end)) return null;
+  const { start, end } = v;
+  if (!int(start.line, 1) || !int(start.column, 1) || !int(end.line, 1) || !int(end.column, 1)) return null;
+  return { start: { line: start.line, column: start.column }, end: { line: end.line, column: end.column } };
+}
+
+function knobValues(v: unknown): Record<string, number> | null {
+  if (!isObj(v)) return null;
+  const out: Record<string, number> = {};
+  const keys = Object.keys(v);
+  if (keys.length > 200) return null;
+  for (const k of keys) {
+    if (!name(k) || !num(v[k])) return null;
+    out[k] = v[k] as number;
+  }
+  return out;
+}
+
+export function validInput(v: unknown): InputChoice | null {
+  if (!isObj(v)) return null;
+  if (v.kind === 'scene') {
+    if (!(SCENE_NAMES as readonly unknown[]).includes(v.scene)) return null;
+    if (!num(v.noise) || v.noise < 0 || v.noise > MAX_NOISE) return null;
+    if (!int(v.seed) || v.seed > MAX_SEED) return null;
+    return { kind: 'scene', scene: v.scene as SceneName, noise: v.noise, seed: v.seed };
+  }
+  if (v.kind === 'file' && str(v.uri, 4096) && v.uri.length > 0) return { kind: 'file', uri: v.uri };
+  return null;
+}
+
+/** Float32Array as sent, or a plain number array (a host that serialises typed arrays as lists) converted. */
+function floats(v: unknown, length?: number): Float32Array | null {
+  let out: Float32Array | null = null;
+  if (v instanceof Float32Array) out = v;
+  else if (Array.isArray(v) && v.every((x) => typeof x === 'number')) out = Float32Array.from(v as number[]);
+  else if (isObj(v) && !(v instanceof ArrayBuffer)) {
+    // Some hosts deliver typed arrays as index-keyed objects; accept them when every key is an index.
+    const keys = Object.keys(v);
+    if (keys.every((k, i) => k === String(i) && typeof v[k] === 'number')) out = Float32Array.from(keys.map((k) => v[k] as number));
+  }
+  if (out && length !== undefined && out.length !== length) return null;
+  return out;
+}
+
+/** Checks a message the webview sent; null means "ignore it". */
+export function validateFromPreview(raw: unknown): FromPreview.Type | null {
+  if (!isObj(raw) || !str(raw.source, 4096) || typeof raw.type !== 'string') return null;
+  const source = raw.source;
+  switch (raw.type) {
+    case 'ready': case 'chooseImage': case 'rerun':
+      return { type: raw.type, source };
+    case 'setKnobs': case 'writeKnobs': {
+      const values = knobValues(raw.values);
+      if (!values || !num(raw.dt) || raw.dt <= 0) return null;
+      return { type: raw.type, source, values, dt: raw.dt };
+    }
+    case 'setInput': {
+      const input = validInput(raw.input);
+      return input ? { type: 'setInput', source, input } : null;
+    }
+    case 'showField':
+      return name(raw.field) ? { type: 'showField', source, field: raw.field } : null;
+    case 'pickPixel':
+      if (!int(raw.runId) || !int(raw.step) || !int(raw.x) || !int(raw.y)) return null;
+      return { type: 'pickPixel', source, runId: raw.runId, step: raw.step, x: raw.x, y: raw.y };
+    case 'requestProfile':
+      if (!int(raw.runId) || !int(raw.step) || !int(raw.row)) return null;
+      return { type: 'requestProfile', source, runId: raw.runId, step: raw.step, row: raw.row };
+    case 'reveal': {
+      const r = range(raw.range);
+      return r ? { type: 'reveal', source, range: r } : null;
+    }
+    default:
+      return null;
+  }
+}
+
+function knob(v: unknown): KnobSpec | null {
+  if (!isObj(v) || !str(v.name, 200) || !num(v.value) || !numOrNull(v.lo) || !numOrNull(v.hi)) return null;
+  return { name: v.name, value: v.value, lo: v.lo, hi: v.hi };
+}
+
+function verdict(v: unknown): WireVerdict | null {
+  const methods: readonly unknown[] = ['von-neumann', 'positivity', 'linearised', 'none'];
+  if (!isObj(v) || !methods.includes(v.method) || !numOrNull(v.limit) || !num(v.dt) || typeof v.stable !== 'boolean' || !str(v.reason)) return null;
+  if (typeof v.estimate !== 'boolean' || typeof v.unconditional !== 'boolean' || !numOrNull(v.positivityLimit) || !numOrNull(v.diffusionLimit)) return null;
+  return {
+    method: v.method as VerdictMethod, limit: v.limit, dt: v.dt, stable: v.stable, reason: v.reason, estimate: v.estimate,
+    unconditional: v.unconditional, positivityLimit: v.positivityLimit, diffusionLimit: v.diffusionLimit,
+  };
+}
+
+function finding(v: unknown): WireFinding | null {
+  const kinds: readonly unknown[] = ['blow-up', 'new-extremum', 'growth'];
+  if (!isObj(v) || !kinds.includes(v.kind) || !int(v.step) || !int(v.x) || !int(v.y) || !str(v.field, 200) || !str(v.message)) return null;
+  const r = range(v.range);
+  return r ? { kind: v.kind as FindingKind, step: v.step, x: v.x, y: v.y, field: v.field, message: v.message, range: r } : null;
+}
+
+const statsOf = (v: unknown): WireStats | null =>
+  isObj(v) && typeof v.min === 'number' && typeof v.max === 'number' && typeof v.mean === 'number' ? { min: v.min, max: v.max, mean: v.mean } : null;
+
+/** Checks a message the host sent (the webview's side of "validated on receipt"); null means "ignore it". */
+export function validateToPreview(raw: unknown): ToPreview.Type | null {
+  if (!isObj(raw) || !str(raw.source, 4096) || typeof raw.type !== 'string') return null;
+  const source = raw.source;
+  switch (raw.type) {
+    case 'scheme': {
+      if (!str(raw.fileName, 1000) || (raw.dims !== 1 && raw.dims !== 2) || !Array.isArray(raw.fields) || !raw.fields.every((f) => str(f, 200))) return null;
+      if (!Array.isArray(raw.knobs) || !int(raw.steps) || !isObj(raw.current) || !str(raw.inputLabel, 4096)) return null;
+      const knobs = raw.knobs.map(knob);
+      const dt = knob(raw.dt);
+      const values = knobValues(raw.current.values);
+      const input = validInput(raw.input);
+      if (knobs.some((k) => k === null) || !dt || !values || !num(raw.current.dt) || !input) return null;
+      return {
+        type: 'scheme', source, fileName: raw.fileName, dims: raw.dims, fields: raw.fields as string[], knobs: knobs as KnobSpec[], dt,
+        steps: raw.steps, current: { values, dt: raw.current.dt }, input, inputLabel: raw.inputLabel,
+      };
+    }
+    case 'runStarted':
+      if (!int(raw.runId) || !int(raw.width, 1) || !int(raw.height, 1) || !int(raw.frameWidth, 1) || !int(raw.frameHeight, 1)) return null;
+      if (!int(raw.steps) || !int(raw.every) || !num(raw.dt) || !str(raw.field, 200) || typeof raw.hasReference !== 'boolean') return null;
+      return {
+        type: 'runStarted', source, runId: raw.runId, width: raw.width, height: raw.height, frameWidth: raw.frameWidth, frameHeight: raw.frameHeight,
+        steps: raw.steps, every: raw.every, dt: raw.dt, field: raw.field, hasReference: raw.hasReference,
+      };
+    case 'frame': {
+      if (!int(raw.runId) || !str(raw.field, 200) || !int(raw.step) || typeof raw.t !== 'number' || !int(raw.width, 1) || !int(raw.height, 1)) return null;
+      const data = floats(raw.data, raw.width * raw.height);
+      const stats = statsOf(raw.stats);
+      if (!data || !stats || !(raw.psnr === null || typeof raw.psnr === 'number')) return null;
+      return { type: 'frame', source, runId: raw.runId, field: raw.field, step: raw.step, t: raw.t, width: raw.width, height: raw.height, data, stats, psnr: raw.psnr };
+    }
+    case 'finding': {
+      const f = finding(raw.finding);
+      return f && int(raw.runId) ? { type: 'finding', source, runId: raw.runId, finding: f } : null;
+    }
+    case 'runEnded': {
+      const statuses: readonly unknown[] = ['done', 'cancelled', 'blow-up', 'failed'];
+      if (!int(raw.runId) || !statuses.includes(raw.status) || !int(raw.stepsDone) || !(raw.message === null || str(raw.message))) return null;
+      let best: { step: number; psnr: number } | null = null;
+      if (raw.best !== null) {
+        if (!isObj(raw.best) || !int(raw.best.step) || typeof raw.best.psnr !== 'number') return null;
+        best = { step: raw.best.step, psnr: raw.best.psnr };
+      }
+      return { type: 'runEnded', source, runId: raw.runId, status: raw.status as ToPreview.RunEnded['status'], stepsDone: raw.stepsDone, best, message: raw.message };
+    }
+    case 'verdict': {
+      const v = verdict(raw.verdict);
+      return v && int(raw.runId) ? { type: 'verdict', source, runId: raw.runId, verdict: v } : null;
+    }
+    case 'problems': {
+      if (!int(raw.count)) return null;
+      if (raw.first === null) return { type: 'problems', source, count: raw.count, first: null };
+      if (!isObj(raw.first) || !str(raw.first.message) || !str(raw.first.code, 200)) return null;
+      const r = range(raw.first.range);
+      return r ? { type: 'problems', source, count: raw.count, first: { message: raw.first.message, code: raw.first.code, range: r } } : null;
+    }
+    case 'weights': {
+      if (!int(raw.runId) || !int(raw.step) || !int(raw.x) || !int(raw.y) || !str(raw.field, 200) || !int(raw.radius) || (raw.dims !== 1 && raw.dims !== 2)) return null;
+      const side = 2 * raw.radius + 1;
+      const cells = raw.dims === 2 ? side * side : side;
+      if (!Array.isArray(raw.grid) || raw.grid.length !== cells || !raw.grid.every((w) => typeof w === 'number')) return null;
+      if (typeof raw.sum !== 'number' || typeof raw.centre !== 'number' || typeof raw.negativeCentre !== 'boolean' || typeof raw.value !== 'number' || !int(raw.others)) return null;
+      return {
+        type: 'weights', source, runId: raw.runId, step: raw.step, x: raw.x, y: raw.y, field: raw.field, radius: raw.radius, dims: raw.dims,
+        grid: raw.grid as number[], sum: raw.sum, centre: raw.centre, negativeCentre: raw.negativeCentre, value: raw.value, others: raw.others,
+      };
+    }
+    case 'impulse':
+      if (!int(raw.runId) || !int(raw.steps) || !num(raw.t) || !Array.isArray(raw.sigma) || !raw.sigma.every(num) || !num(raw.heatSigma) || typeof raw.sum !== 'number' || typeof raw.truncated !== 'boolean') return null;
+      return { type: 'impulse', source, runId: raw.runId, steps: raw.steps, t: raw.t, sigma: raw.sigma as number[], heatSigma: raw.heatSigma, sum: raw.sum, truncated: raw.truncated };
+    case 'profile': {
+      if (!int(raw.runId) || !int(raw.row) || !int(raw.step)) return null;
+      const before = floats(raw.before);
+      const after = floats(raw.after, before?.length);
+      return before && after ? { type: 'profile', source, runId: raw.runId, row: raw.row, step: raw.step, before, after } : null;
+    }
+    case 'notice':
+      if ((raw.level !== 'info' && raw.level !== 'error') || !str(raw.text, 10_000)) return null;
+      return { type: 'notice', source, level: raw.level, text: raw.text };
+    default:
+      return null;
+  }
+}
