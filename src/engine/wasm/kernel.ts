@@ -43,11 +43,13 @@ const F32_LANES = {
   splat: Simd.f32x4Splat, add: Simd.f32x4Add, sub: Simd.f32x4Sub, mul: Simd.f32x4Mul, div: Simd.f32x4Div,
   min: Simd.f32x4Min, max: Simd.f32x4Max, neg: Simd.f32x4Neg, abs: Simd.f32x4Abs, sqrt: Simd.f32x4Sqrt,
   lt: Simd.f32x4Lt, le: Simd.f32x4Le, gt: Simd.f32x4Gt, ge: Simd.f32x4Ge, eq: Simd.f32x4Eq, ne: Simd.f32x4Ne,
+  pmin: Simd.f32x4Pmin, pmax: Simd.f32x4Pmax,
 };
 const F64_LANES = {
   splat: Simd.f64x2Splat, add: Simd.f64x2Add, sub: Simd.f64x2Sub, mul: Simd.f64x2Mul, div: Simd.f64x2Div,
   min: Simd.f64x2Min, max: Simd.f64x2Max, neg: Simd.f64x2Neg, abs: Simd.f64x2Abs, sqrt: Simd.f64x2Sqrt,
   lt: Simd.f64x2Lt, le: Simd.f64x2Le, gt: Simd.f64x2Gt, ge: Simd.f64x2Ge, eq: Simd.f64x2Eq, ne: Simd.f64x2Ne,
+  pmin: Simd.f64x2Pmin, pmax: Simd.f64x2Pmax,
 };
 
 const VOID = 0x40;
@@ -181,6 +183,7 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   const addr = bufs.map(() => fb.local(I32));
   const mn = monitors ? kg.stores.map(() => fb.local(V128)) : [];
   const mx = monitors ? kg.stores.map(() => fb.local(V128)) : [];
+  const nan = monitors ? kg.stores.map(() => fb.local(V128)) : [];
   const sv = fb.local(V128);
   const usesY = variant.some(n => n.op === 'y');
   const yv = usesY ? fb.local(V128) : -1;
@@ -273,6 +276,7 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   for (let k = 0; k < mn.length; k++) {
     constV(Infinity); fb.set(mn[k]);
     constV(-Infinity); fb.set(mx[k]);
+    constV(0); fb.set(nan[k]);
   }
   fb.get(Y0).set(y);
   fb.op(Op.block, VOID);
@@ -291,8 +295,11 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
     fb.set(sv);
     fb.get(addr[storeBufs[k]]).get(sv).mem(Simd.store, align, (geo.hy * geo.pw + geo.hx) * bytes, true);
     if (monitors) {
-      fb.get(mn[k]).get(sv).simd(T.min).set(mn[k]);
-      fb.get(mx[k]).get(sv).simd(T.max).set(mx[k]);
+      // pmin/pmax are single instructions (min/max with NaN propagation are long sequences, and they sit on the
+      // loop-carried chain); NaN is tracked on its own lane mask instead.
+      fb.get(mn[k]).get(sv).simd(T.pmin).set(mn[k]);
+      fb.get(mx[k]).get(sv).simd(T.pmax).set(mx[k]);
+      fb.get(nan[k]).get(sv).get(sv).simd(T.ne).simd(Simd.or).set(nan[k]);
     }
   });
   // Advance: stop after the vector that ends the row, else step by L but never past x1 - L.
@@ -316,6 +323,8 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
         if (lane > 0) fb.op(f32 ? (red === 'min' ? Op.f32Min : Op.f32Max) : red === 'min' ? Op.f64Min : Op.f64Max);
       }
       if (f32) fb.op(Op.f64PromoteF32);
+      // A NaN anywhere makes both reported values NaN, as Math.min/max do in the JavaScript kernels.
+      fb.f64c(NaN).get(nan[k]).simd(Simd.anyTrue).op(Op.i32Eqz, Op.select);
       fb.mem(Op.f64Store, 3, s.field * 16 + off);
     }
   });
