@@ -5,7 +5,7 @@ import * as vscode from 'vscode';
 import type { DiagnosticManager, SchemeState } from './diagnostics';
 import { LANGUAGE_ID } from './diagnostics';
 import { Disposable } from './util/dispose';
-import { verdictOf } from './verdict';
+import { statusWords } from './verdict';
 
 export const SHOW_DETAILS_COMMAND = 'fluxel.showStabilityDetails';
 
@@ -39,11 +39,5 @@ export class VerdictStatus extends Disposable {
 }
 
 export function statusText(s: SchemeState | undefined): { text: string; tooltip: string } {
-  if (!s) return { text: '$(loading~spin) Fluxel: checking', tooltip: 'Checking the scheme' };
-  if (s.analysis === 'off') return { text: '$(circle-slash) Fluxel: analysis off', tooltip: 'Stability analysis is switched off (fluxel.analysis.enabled)' };
-  if (s.analysis === 'not-applicable') return { text: '$(error) Fluxel: fix errors first', tooltip: 'The scheme has errors; the stability analysis runs once they are fixed' };
-  if (s.analysis === 'running' || !s.report) return { text: '$(loading~spin) Fluxel: analysing', tooltip: 'Stability analysis running' };
-  const v = verdictOf(s.report);
-  const icon = v.kind === 'within' ? '$(check)' : v.kind === 'over' ? '$(warning)' : v.kind === 'estimate' ? '$(info)' : '$(question)';
-  return { text: `${icon} ${v.words} · ${v.figures}`, tooltip: `Fluxel stability: ${v.words}, ${v.figures} (${v.method}). Click for details.` };
+  return statusWords(s ? { analysis: s.analysis, report: s.report } : undefined);
 }

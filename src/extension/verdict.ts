@@ -71,3 +71,14 @@ export function detailsMarkdown(fileName: string, report: StabilityReport): stri
   }
   return lines.join('\n') + '\n';
 }
+
+/** The status bar's text (one codicon, our words) and tooltip for a document's analysis state. */
+export function statusWords(s: { readonly analysis: 'running' | 'done' | 'off' | 'not-applicable'; readonly report: StabilityReport | null } | undefined): { text: string; tooltip: string } {
+  if (!s) return { text: '$(loading~spin) Fluxel: checking', tooltip: 'Checking the scheme' };
+  if (s.analysis === 'off') return { text: '$(circle-slash) Fluxel: analysis off', tooltip: 'Stability analysis is switched off (fluxel.analysis.enabled)' };
+  if (s.analysis === 'not-applicable') return { text: '$(error) Fluxel: fix errors first', tooltip: 'The scheme has errors; the stability analysis runs once they are fixed' };
+  if (s.analysis === 'running' || !s.report) return { text: '$(loading~spin) Fluxel: analysing', tooltip: 'Stability analysis running' };
+  const v = verdictOf(s.report);
+  const icon = v.kind === 'within' ? '$(check)' : v.kind === 'over' ? '$(warning)' : v.kind === 'estimate' ? '$(info)' : '$(question)';
+  return { text: `${icon} ${v.words} · ${v.figures}`, tooltip: `Fluxel stability: ${v.words}, ${v.figures} (${v.method}). Click for details.` };
+}
