@@ -493,6 +493,7 @@ export const STABILITY_CODES = {
   'stability-unknown': 'the analysis could not classify the scheme',
   'backward-diffusion': 'a diffusivity negative for some arguments (ill-posed backward diffusion)',
   'physical-growth': 'modes the equations themselves make grow, excluded from the limit',
+  'flux-peak': 'where the flux s·g(s) of a diffusivity peaks: larger contrasts are sharpened, not smoothed',
 } as const;
 
 function relatedRanges(scheme: CheckedScheme, report: StabilityReport): RelatedInfo[] {
@@ -542,6 +543,16 @@ export function stabilityDiagnostics(scheme: CheckedScheme, report: StabilityRep
     out.push({
       range: scheme.stepRange, severity: 'info', code: 'physical-growth', related,
       message: `Some modes grow because the equations make them grow (largest rate ${fmt(report.growth.maxRate)} at θ = ${fmtTheta(report.growth.theta)}); they do not count against the limit.`,
+    });
+  }
+  for (const d of report.diffusivities) {
+    const fn = scheme.functions.get(d.name);
+    if (!fn || d.fluxPeak === null) continue;
+    out.push({
+      range: fn.decl.range, severity: 'info', code: 'flux-peak',
+      related: scheme.updates.map((u) => ({ range: u.range, message: `update using ${d.name}` })),
+      data: { name: d.name, fluxPeak: d.fluxPeak },
+      message: `The flux s·${d.name}(s) peaks at |s| = ${fmt(d.fluxPeak)}: contrasts below it are smoothed, contrasts above it are kept or sharpened (forward–backward behaviour).`,
     });
   }
   for (const d of report.diffusivities) {

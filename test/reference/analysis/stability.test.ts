@@ -267,6 +267,22 @@ u' = u + dt * (g(u[1,0] - u) * (u[1,0] - u) - g(u - u[-1,0]) * (u - u[-1,0]) + g
     close(b.diffusivities[0].fluxPeak, 0.06 / Math.SQRT2, 1e-9, 'flux peak of exp(-(s/K)^2)');
   });
 
+  // Same source: the peak is reported to the user as an info on the diffusivity's declaration. The regularised
+  // TV diffusivity 1/√(ε² + s²) has the flux s/√(ε² + s²), increasing for every s > 0 (derivative ε²/(ε² + s²)^{3/2}
+  // > 0, ours), so it has no peak and gets no such diagnostic.
+  it('the flux peak is an info diagnostic on the diffusivity; a monotone flux gets none', () => {
+    const s = scheme(pm(2, '1 / (1 + (s / K)^2)'));
+    const d = stabilityDiagnostics(s, analyseStability(s)).filter((x) => x.code === 'flux-peak');
+    expect(d.length).toBe(1);
+    expect(d[0].severity).toBe('info');
+    expect(d[0].range).toEqual(s.functions.get('g')!.decl.range);
+    expect(d[0].message).toContain('0.06');
+    const tv = scheme(pm(2, '1 / sqrt(0.01 + s^2)'));
+    const rt = analyseStability(tv);
+    expect(rt.diffusivities[0].fluxPeak).toBeNull();
+    expect(stabilityDiagnostics(tv, rt).map((x) => x.code)).not.toContain('flux-peak');
+  });
+
   // Common practice (forward–backward diffusion): g(s) = 1 − s² is negative for |s| > 1, which makes the
   // continuous problem backward parabolic (ill-posed) there. Differences of [0, 1] data stay within [−1, 1].
   it('g(s) = 1 − s² is flagged as backward diffusion for |s| > 1', () => {
