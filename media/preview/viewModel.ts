@@ -174,7 +174,7 @@ export function fmt(v: number, digits = 4): string {
   if (v === 0) return '0';
   const a = Math.abs(v);
   const text = a >= 1e-3 && a < 1e6 ? String(Number(v.toPrecision(digits))) : v.toExponential(Math.max(0, digits - 2));
-  return text.replace('-', '−');
+  return text.replace(/-/g, '−');
 }
 
 export function stepLabel(step: number, steps: number, t: number): string {

@@ -1,0 +1,277 @@
+// The live run's host orchestration without VS Code or threads: a fake engine and a fake analysis record what the
+// session asks for, so debounce, stale-run dropping, cancellation, respawn on long steps, knob and input changes,
+// errors, the weights request on the full-resolution state, knob edits and replay are checked message by message.
+
+import { afterEach, describe, expect, it, vi } from 'vitest';
+import type { FieldSnapshot, WorkerRunOptions } from '../../../src/engine/worker/protocol';
+import type { WorkerRunCallbacks, WorkerRunHandle, WorkerRunOutcome } from '../../../src/engine/worker/workerClient';
+import type { FrameStats } from '../../../src/engine/types';
+import type { AnalysisService } from '../../../src/extension/preview/analysisClient';
+import { PreviewSession, type EngineLike, type SessionEnv } from '../../../src/extension/preview/session';
+import type { InputChoice, ToPreview } from '../../../src/protocol/preview';
+
+const SCHEME = [
+  'grid 2d',
+  'boundary reflect',
+  'param K = 0.5 in [0, 1]',
+  'step dt = 0.2 in [0.01, 0.3]',
+  'steps 4',
+  'field u = image',
+  "u' = u + dt * K * sum n in N4: u[n] - u",
+  '',
+].join('\n');
+
+interface FakeRun {
+  options: WorkerRunOptions;
+  cb: WorkerRunCallbacks;
+  cancelled: boolean;
+  resolve(o: WorkerRunOutcome): void;
+  reject(e: Error): void;
+  engine: FakeEngine;
+}
+
+class FakeEngine implements EngineLike {
+  terminated = false;
+  constructor(private readonly runs: FakeRun[]) {}
+  start(_input: unknown, options: WorkerRunOptions, cb: WorkerRunCallbacks = {}): WorkerRunHandle {
+    let resolve!: (o: WorkerRunOutcome) => void;
+    let reject!: (e: Error) => void;
+    const done = new Promise<WorkerRunOutcome>((res, rej) => { resolve = res; reject = rej; });
+    done.catch(() => undefined);
+    const run: FakeRun = { options, cb, cancelled: false, resolve, reject, engine: this };
+    this.runs.push(run);
+    return { runId: this.runs.length, done, cancel: () => { run.cancelled = true; } };
+  }
+  async terminate(): Promise<void> {
+    this.terminated = true;
+  }
+}
+
+function snapshot(width: number, height: number, fill: (i: number) => number): FieldSnapshot {
+  return { width, height, data: Float32Array.from({ length: width * height }, (_, i) => fill(i)) };
+}
+
+function stats(step: number): FrameStats {
+  return { step, t: step * 0.2, fields: { u: { min: 0, max: 1, mean: 0.5 } }, psnr: 20 + step };
+}
+
+function setup(opts: { debounceMs?: number; input?: InputChoice } = {}) {
+  const posted: ToPreview.Type[] = [];
+  const runs: FakeRun[] = [];
+  const engines: FakeEngine[] = [];
+  const weightsCalls: Parameters<AnalysisService['weights']>[0][] = [];
+  const analysis: AnalysisService = {
+    verdict: async (_t, knobs) => ({
+      verdict: { method: 'positivity', limit: 0.25, dt: knobs.dt, stable: knobs.dt <= 0.25, reason: 'r', estimate: false, unconditional: false, positivityLimit: null, diffusionLimit: null },
+      extremumCheck: true,
+    }),
+    weights: async (req) => {
+      weightsCalls.push(req);
+      return { field: req.field, radius: 1, dims: 2, grid: [0, 0.1, 0, 0.1, 0.6, 0.1, 0, 0.1, 0], sum: 1, centre: 0.6, negativeCentre: false, value: 0.5, others: 0 };
+    },
+    impulse: async (_t, _k, steps) => ({ steps, t: steps * 0.2, sigma: [1, 1], heatSigma: 1, sum: 1, truncated: false }),
+    dispose: async () => undefined,
+  };
+  const edits: { edits: unknown; text: string }[] = [];
+  const revealed: unknown[] = [];
+  const remembered: InputChoice[] = [];
+  const env: SessionEnv = {
+    source: 'file:///w/a.fluxel',
+    fileName: 'a.fluxel',
+    post: (m) => posted.push(m),
+    newEngine: () => {
+      const e = new FakeEngine(runs);
+      engines.push(e);
+      return e;
+    },
+    analysis,
+    settings: () => ({ debounceMs: opts.debounceMs ?? 0, maxPreviewSize: 16, sceneSize: 32 }),
+    readImage: async () => ({ width: 8, height: 4, data: new Float32Array(32).fill(0.25) }),
+    recallInput: () => opts.input ?? null,
+    rememberInput: (i) => remembered.push(i),
+    pickImage: async () => 'file:///w/pic.png',
+    applyEdits: async (e, text) => { edits.push({ edits: e, text }); return true; },
+    reveal: (r) => revealed.push(r),
+  };
+  const session = new PreviewSession(env);
+  const of = <T extends ToPreview.Type['type']>(type: T) => posted.filter((m): m is Extract<ToPreview.Type, { type: T }> => m.type === type);
+  return { session, posted, runs, engines, weightsCalls, edits, revealed, remembered, of };
+}
+
+/** Lets pending promise callbacks run (no timers involved). */
+const settle = () => new Promise<void>((r) => setImmediate(r));
+
+afterEach(() => vi.useRealTimers());
+
+describe('live run session', () => {
+  it('checks and runs on the first change: scheme, run start with sizes, then frames in order', async () => {
+    const { session, runs, of } = setup();
+    session.documentChanged(SCHEME);
+    expect(of('scheme')[0]).toMatchObject({ fileName: 'a.fluxel', dims: 2, fields: ['u'], knobs: [{ name: 'K', value: 0.5, lo: 0, hi: 1 }], steps: 4, current: { values: { K: 0.5 }, dt: 0.2 } });
+    expect(runs.length).toBe(1);
+    const started = of('runStarted')[0];
+    // A 32×32 scene shown at most 16 px wide: frames are halved.
+    expect(started).toMatchObject({ width: 32, height: 32, frameWidth: 16, frameHeight: 16, steps: 4, every: 1, field: 'u', hasReference: true });
+    expect(runs[0].options).toMatchObject({ params: { K: 0.5 }, dt: 0.2, every: 1, monitors: { extremumCheck: 'auto' } });
+    runs[0].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 1) });
+    runs[0].cb.onFrame?.(stats(1), { u: snapshot(32, 32, (i) => i % 2) });
+    const frames = of('frame');
+    expect(frames.map((f) => [f.step, f.width, f.height])).toEqual([[0, 16, 16], [1, 16, 16]]);
+    expect(frames[1].data[0]).toBeCloseTo(0.5, 6); // 2×2 blocks of 0 and 1 average to 0.5
+    expect(frames[1].psnr).toBe(21);
+    await settle();
+    expect(of('verdict')[0].verdict).toMatchObject({ method: 'positivity', limit: 0.25 });
+    expect(of('impulse')[0]).toMatchObject({ steps: 4 });
+  });
+
+  it('folds edits inside the debounce window into one run, the first edit after a pause running at once', () => {
+    vi.useFakeTimers();
+    const { session, runs } = setup({ debounceMs: 150 });
+    session.documentChanged(SCHEME);
+    expect(runs.length).toBe(1);
+    session.documentChanged(SCHEME + '# a\n');
+    session.documentChanged(SCHEME + '# ab\n');
+    expect(runs.length).toBe(1);
+    vi.advanceTimersByTime(149);
+    expect(runs.length).toBe(1);
+    vi.advanceTimersByTime(1);
+    expect(runs.length).toBe(2);
+    expect(runs[0].cancelled).toBe(true);
+  });
+
+  it('drops frames and findings of a replaced run, and cancels it without a new worker when steps are short', () => {
+    const { session, runs, engines, of } = setup();
+    session.documentChanged(SCHEME);
+    runs[0].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
+    runs[0].cb.onFrame?.(stats(1), { u: snapshot(32, 32, () => 0) });
+    session.documentChanged(SCHEME + '# edit\n');
+    expect(runs[0].cancelled).toBe(true);
+    expect(engines.length).toBe(1);
+    expect(engines[0].terminated).toBe(false);
+    const before = of('frame').length;
+    runs[0].cb.onFrame?.(stats(2), { u: snapshot(32, 32, () => 0) });
+    runs[0].cb.onWarning?.({ kind: 'growth', step: 2, x: 1, y: 1, field: 'u', message: 'm', range: { start: { offset: 0, line: 7, column: 1 }, end: { offset: 5, line: 7, column: 6 } } });
+    expect(of('frame').length).toBe(before);
+    expect(of('finding').length).toBe(0);
+    const ids = of('runStarted').map((m) => m.runId);
+    expect(new Set(ids).size).toBe(2);
+  });
+
+  it('terminates the worker and starts a new one when the current step is long (contracts §5)', () => {
+    const { session, runs, engines } = setup();
+    session.documentChanged(SCHEME);
+    // No frame beyond step 0 has come back, and the run started long ago: a long first step.
+    runs[0].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
+    const t0 = performance.now();
+    vi.spyOn(performance, 'now').mockReturnValue(t0 + 10_000);
+    session.documentChanged(SCHEME + '# edit\n');
+    vi.restoreAllMocks();
+    expect(engines[0].terminated).toBe(true);
+    expect(engines.length).toBe(2);
+    expect(runs[1].engine).toBe(engines[1]);
+  });
+
+  it('keeps the last good run while the file has errors and reports the first error', () => {
+    const { session, runs, of } = setup();
+    session.documentChanged(SCHEME);
+    session.documentChanged(SCHEME.replace("u' = u +", "u' = q +"));
+    expect(runs.length).toBe(1);
+    expect(runs[0].cancelled).toBe(false);
+    const p = of('problems')[0];
+    expect(p.count).toBeGreaterThanOrEqual(1);
+    expect(p.first?.range.start.line).toBe(7);
+    session.documentChanged(SCHEME);
+    expect(of('problems').at(-1)).toMatchObject({ count: 0, first: null });
+    expect(runs.length).toBe(2);
+  });
+
+  it('reruns at once with moved knobs, and a knob follows the file again when the file changes it', async () => {
+    const { session, runs, of } = setup();
+    session.documentChanged(SCHEME);
+    await session.handle({ type: 'setKnobs', source: 'file:///w/a.fluxel', values: { K: 0.75 }, dt: 0.1 });
+    expect(runs.length).toBe(2);
+    expect(runs[1].options).toMatchObject({ params: { K: 0.75 }, dt: 0.1 });
+    session.documentChanged(SCHEME + '# comment\n');
+    expect(runs[2].options).toMatchObject({ params: { K: 0.75 }, dt: 0.1 });
+    session.documentChanged(SCHEME.replace('K = 0.5', 'K = 0.25'));
+    expect(runs[3].options).toMatchObject({ params: { K: 0.25 }, dt: 0.1 });
+    expect(of('scheme').at(-1)?.current).toEqual({ values: { K: 0.25 }, dt: 0.1 });
+  });
+
+  it('computes weights from the full-resolution state of the picked step', async () => {
+    const { session, runs, weightsCalls, of } = setup();
+    session.documentChanged(SCHEME);
+    runs[0].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
+    runs[0].cb.onFrame?.(stats(2), { u: snapshot(32, 32, (i) => i) });
+    const runId = of('runStarted')[0].runId;
+    await session.handle({ type: 'pickPixel', source: 'file:///w/a.fluxel', runId, step: 2, x: 31, y: 30 });
+    expect(weightsCalls.length).toBe(1);
+    const req = weightsCalls[0];
+    expect([req.width, req.height, req.x, req.y, req.t, req.field]).toEqual([32, 32, 31, 30, 0.4, 'u']);
+    expect(req.fields[0].length).toBe(32 * 32);
+    expect(req.fields[0][30 * 32 + 31]).toBe(30 * 32 + 31);
+    expect(of('weights')[0]).toMatchObject({ runId, step: 2, x: 31, y: 30, centre: 0.6 });
+    // A stale run id or a step that was never recorded asks for nothing.
+    await session.handle({ type: 'pickPixel', source: 'file:///w/a.fluxel', runId: runId + 5, step: 2, x: 1, y: 1 });
+    await session.handle({ type: 'pickPixel', source: 'file:///w/a.fluxel', runId, step: 3, x: 1, y: 1 });
+    expect(weightsCalls.length).toBe(1);
+  });
+
+  it('sends a full-resolution row before and after', async () => {
+    const { session, runs, of } = setup();
+    session.documentChanged(SCHEME);
+    runs[0].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
+    runs[0].cb.onFrame?.(stats(1), { u: snapshot(32, 32, (i) => i) });
+    await session.handle({ type: 'requestProfile', source: 'file:///w/a.fluxel', runId: of('runStarted')[0].runId, step: 1, row: 3 });
+    const p = of('profile')[0];
+    expect(p.before.length).toBe(32);
+    expect(p.after[5]).toBe(3 * 32 + 5);
+  });
+
+  it('writes knobs as edits on the current text, and reveals ranges through the editor', async () => {
+    const { session, edits, revealed } = setup();
+    session.documentChanged(SCHEME);
+    await session.handle({ type: 'writeKnobs', source: 'file:///w/a.fluxel', values: { K: 0.7 }, dt: 0.15 });
+    expect(edits.length).toBe(1);
+    expect(edits[0].text).toBe(SCHEME);
+    expect((edits[0].edits as { newText: string }[]).map((e) => e.newText)).toEqual(['0.7', '0.15']);
+    const range = { start: { line: 7, column: 1 }, end: { line: 7, column: 10 } };
+    await session.handle({ type: 'reveal', source: 'file:///w/a.fluxel', range });
+    expect(revealed).toEqual([range]);
+  });
+
+  it('remembers the input choice and reruns on it; an image file is read first', async () => {
+    const { session, runs, remembered, of } = setup({ input: { kind: 'scene', scene: 'card', noise: 0, seed: 2 } });
+    session.documentChanged(SCHEME);
+    expect(of('scheme')[0].input).toEqual({ kind: 'scene', scene: 'card', noise: 0, seed: 2 });
+    await session.handle({ type: 'chooseImage', source: 'file:///w/a.fluxel' });
+    expect(remembered.at(-1)).toEqual({ kind: 'file', uri: 'file:///w/pic.png' });
+    await settle();
+    const last = runs.at(-1)!;
+    expect((last.options.image as { width: number }).width).toBe(8);
+    expect(last.options.reference).toBeUndefined();
+    expect(of('runStarted').at(-1)).toMatchObject({ width: 8, height: 4, hasReference: false });
+  });
+
+  it('replays scheme, run, frames, findings, verdict and end to a page that reloaded', async () => {
+    const { session, runs, posted, of } = setup();
+    session.documentChanged(SCHEME);
+    runs[0].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
+    runs[0].cb.onWarning?.({ kind: 'new-extremum', step: 0, x: 2, y: 3, field: 'u', message: 'm', range: { start: { offset: 0, line: 7, column: 1 }, end: { offset: 5, line: 7, column: 6 } } });
+    runs[0].resolve({ result: { status: 'done', stepsDone: 4, steps: 4, dt: 0.2, params: {}, dtype: 'float32', backend: 'js', stepSeconds: 0, frames: [], warnings: [] }, fields: {} });
+    await settle();
+    const n = posted.length;
+    await session.handle({ type: 'ready', source: 'file:///w/a.fluxel' });
+    const replayed = posted.slice(n).map((m) => m.type);
+    expect(replayed).toEqual(['scheme', 'runStarted', 'frame', 'finding', 'verdict', 'impulse', 'runEnded']);
+    expect(of('runEnded')[0]).toMatchObject({ status: 'done', stepsDone: 4 });
+  });
+
+  it('stops its run and its worker when disposed', () => {
+    const { session, runs, engines } = setup();
+    session.documentChanged(SCHEME);
+    session.dispose();
+    expect(runs[0].cancelled).toBe(true);
+    expect(engines[0].terminated).toBe(true);
+  });
+});

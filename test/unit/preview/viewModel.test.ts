@@ -1,0 +1,201 @@
+// The webview's view-model (DOM-free): frames of the current run, grey window and change scale, painting,
+// zoom and pan, pixel mapping across downsampling, labels, knob sliders, the weights grid, chart series, keys.
+
+import { describe, expect, it } from 'vitest';
+import type { ToPreview, WireVerdict } from '../../../src/protocol/preview';
+import { divergingTable } from '../../../media/preview/colour';
+import {
+  changeScale, findingText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint, panBy,
+  seriesOf, seriesSummary, sliderFromValue, SLIDER_STEPS, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt,
+} from '../../../media/preview/viewModel';
+
+const src = 'file:///a.fluxel';
+const started = (runId: number): ToPreview.RunStarted => ({
+  type: 'runStarted', source: src, runId, width: 4, height: 4, frameWidth: 4, frameHeight: 4, steps: 10, every: 1, dt: 0.1, field: 'u', hasReference: true,
+});
+const frame = (runId: number, step: number, data = new Float32Array(16), psnr: number | null = null): ToPreview.Frame => ({
+  type: 'frame', source: src, runId, field: 'u', step, t: step * 0.1, width: 4, height: 4, data, stats: { min: 0, max: step, mean: step / 2 }, psnr,
+});
+
+describe('frame store', () => {
+  it('keeps frames of the current run sorted by step and refuses frames of other runs', () => {
+    const s = new FrameStore();
+    s.begin(started(2));
+    expect(s.add(frame(2, 0))).toBe(0);
+    expect(s.add(frame(2, 4))).toBe(1);
+    expect(s.add(frame(2, 2))).toBe(1);
+    expect(s.add(frame(1, 3))).toBe(-1);
+    expect(s.frames.map((f) => f.step)).toEqual([0, 2, 4]);
+    expect(s.indexAtOrBefore(3)).toBe(1);
+    expect(s.indexAtOrBefore(99)).toBe(2);
+  });
+
+  it('replaces a frame sent again for the same step, and keeps findings when the same run restarts for another field', () => {
+    const s = new FrameStore();
+    s.begin(started(3));
+    s.add(frame(3, 1));
+    s.add(frame(3, 1, new Float32Array(16).fill(7)));
+    expect(s.frames.length).toBe(1);
+    expect(s.frames[0].data[0]).toBe(7);
+    const range = { start: { line: 1, column: 1 }, end: { line: 1, column: 2 } };
+    expect(s.addFinding({ type: 'finding', source: src, runId: 3, finding: { kind: 'growth', step: 1, x: 0, y: 0, field: 'u', message: 'm', range } })).toBe(true);
+    expect(s.addFinding({ type: 'finding', source: src, runId: 9, finding: { kind: 'growth', step: 1, x: 0, y: 0, field: 'u', message: 'm', range } })).toBe(false);
+    s.begin(started(3));
+    expect(s.findings.length).toBe(1);
+    s.begin(started(4));
+    expect(s.findings.length).toBe(0);
+  });
+});
+
+describe('pictures', () => {
+  it('takes the grey window from quantiles, so single outliers do not set it', () => {
+    const d = new Float32Array(1000).map((_, i) => i / 999);
+    d[0] = -50;
+    d[999] = 50;
+    const w = greyWindow(d);
+    expect(w.lo).toBeGreaterThan(-0.01);
+    expect(w.hi).toBeLessThan(1.01);
+  });
+
+  it('widens a flat picture so it still has a window', () => {
+    expect(greyWindow(new Float32Array(10).fill(0.3))).toEqual({ lo: expect.closeTo(-0.2, 6), hi: expect.closeTo(0.8, 6) });
+  });
+
+  it('scales change by the largest finite |now − start|', () => {
+    expect(changeScale(new Float32Array([1, 2, NaN]), new Float32Array([0.5, 4, 0]))).toBe(2);
+  });
+
+  it('paints grey, change (zero in the middle) and non-finite values', () => {
+    const table = divergingTable(false);
+    const out = new Uint8ClampedArray(3 * 4);
+    const start = new Float32Array([0, 0.5, 1]);
+    paint(out, 'now', new Float32Array([0, 0.5, Infinity]), start, { lo: 0, hi: 1 }, table, 0);
+    expect(Array.from(out.slice(0, 4))).toEqual([0, 0, 0, 255]);
+    expect(out[4]).toBe(128);
+    expect(Array.from(out.slice(8, 12))).toEqual([255, 0, 255, 255]);
+    paint(out, 'change', new Float32Array([-1, 0.5, 2]), start, { lo: 0, hi: 1 }, table, 1);
+    expect(Array.from(out.slice(0, 3))).toEqual(Array.from(table.slice(0, 3)));
+    expect(Array.from(out.slice(4, 7))).toEqual(Array.from(table.slice(128 * 3, 128 * 3 + 3)));
+    expect(Array.from(out.slice(8, 11))).toEqual(Array.from(table.slice(255 * 3, 255 * 3 + 3)));
+    paint(out, 'start', new Float32Array([9, 9, 9]), start, { lo: 0, hi: 1 }, table, 0);
+    expect([out[0], out[4], out[8]]).toEqual([0, 128, 255]);
+  });
+});
+
+describe('zoom and pan', () => {
+  it('fits the frame centred', () => {
+    expect(fitTransform(100, 50, 400, 400)).toEqual({ scale: 4, offsetX: 0, offsetY: 100 });
+  });
+
+  it('keeps the image point under the cursor in place when zooming', () => {
+    const t = fitTransform(100, 100, 200, 200);
+    const z = zoomAt(t, 4, 37, 91, 0.5);
+    expect((37 - z.offsetX) / z.scale).toBeCloseTo((37 - t.offsetX) / t.scale, 12);
+    expect((91 - z.offsetY) / z.scale).toBeCloseTo((91 - t.offsetY) / t.scale, 12);
+    expect(zoomAt(t, 1e6, 0, 0, 0.5).scale).toBe(64);
+    expect(zoomAt(t, 1e-6, 0, 0, 0.5).scale).toBe(0.5);
+  });
+
+  it('finds the frame pixel under a screen point, nearest-neighbour, and none outside', () => {
+    const t = panBy({ scale: 8, offsetX: 0, offsetY: 0 }, 10, 20);
+    expect(framePixelAt(t, 10 + 8 * 3 + 7.9, 20 + 8 * 2, 16, 16)).toEqual({ fx: 3, fy: 2 });
+    expect(framePixelAt(t, 5, 25, 16, 16)).toBeNull();
+  });
+
+  it('maps downsampled frame pixels to full-resolution pixels and back', () => {
+    const s = { width: 1000, height: 600, frameWidth: 500, frameHeight: 300 };
+    expect(fullPixel(10, 20, s)).toEqual({ x: 21, y: 41 });
+    expect(framePixelOf(21, 41, s)).toEqual({ fx: 10, fy: 20 });
+    expect(fullPixel(499, 299, s)).toEqual({ x: 999, y: 599 });
+    const same = { width: 64, height: 64, frameWidth: 64, frameHeight: 64 };
+    expect(fullPixel(5, 6, same)).toEqual({ x: 5, y: 6 });
+  });
+});
+
+describe('labels', () => {
+  it('formats numbers compactly', () => {
+    expect(fmt(0.200000001)).toBe('0.2');
+    expect(fmt(-1.5)).toBe('−1.5');
+    expect(fmt(1e-9, 3)).toBe('1.0e−9');
+    expect(fmt(NaN)).toBe('NaN');
+    expect(fmt(Infinity)).toBe('∞');
+    expect(stepLabel(37, 60, 7.4)).toBe('step 37 of 60 · t = 7.4');
+  });
+
+  const v = (p: Partial<WireVerdict>): WireVerdict => ({ method: 'positivity', limit: 0.25, dt: 0.2, stable: true, reason: 'r', estimate: false, unconditional: false, positivityLimit: null, diffusionLimit: null, ...p });
+  const cases: [string, Partial<WireVerdict>, string, string][] = [
+    ['stable', {}, 'within limit', 'ok'],
+    ['over', { dt: 0.3, stable: false }, 'over the limit', 'error'],
+    ['linearised', { method: 'linearised', estimate: true }, 'estimate only', 'info'],
+    ['none', { method: 'none', limit: null, stable: false }, 'no bound known', 'info'],
+    ['no stable dt', { method: 'von-neumann', limit: null, stable: false }, 'no bound known', 'error'],
+    ['unconditional', { method: 'von-neumann', limit: null, stable: true, unconditional: true }, 'within limit', 'ok'],
+  ];
+  for (const [name, p, text, tone] of cases) {
+    it(`verdict: ${name} → ${text}`, () => {
+      const l = verdictLabel(v(p));
+      expect([l.text, l.tone]).toEqual([text, tone]);
+    });
+  }
+  it('says the method and limit in the detail', () => expect(verdictLabel(v({})).detail).toBe('dt 0.2 / 0.25 · positivity'));
+
+  it('writes a finding as what, when and where', () => {
+    const f = { kind: 'new-extremum' as const, step: 41, x: 203, y: 17, field: 'u', message: 'new maximum 1.003', range: { start: { line: 14, column: 1 }, end: { line: 14, column: 9 } } };
+    expect(findingText(f)).toBe('new extremum · step 41 at (203, 17): new maximum 1.003');
+  });
+});
+
+describe('knob sliders', () => {
+  const k = { name: 'K', value: 0.06, lo: 0.005, hi: 0.5 };
+  it('uses a log scale over two decades and maps the ends exactly', () => {
+    expect(knobSpan(k).log).toBe(true);
+    expect(valueFromSlider(k, 0)).toBe(0.005);
+    expect(valueFromSlider(k, SLIDER_STEPS)).toBe(0.5);
+    expect(valueFromSlider(k, sliderFromValue(k, 0.06))).toBeCloseTo(0.06, 3);
+  });
+  it('uses a linear scale otherwise and invents a span when none is declared', () => {
+    const dt = { name: 'dt', value: 0.2, lo: 0.02, hi: 0.3 };
+    expect(knobSpan(dt).log).toBe(false);
+    expect(sliderFromValue(dt, 0.16)).toBe(500);
+    expect(knobSpan({ name: 'a', value: 2, lo: null, hi: null })).toEqual({ lo: 0.2, hi: 20, log: true });
+    expect(knobSpan({ name: 'b', value: 0, lo: null, hi: null })).toEqual({ lo: -10, hi: 10, log: false });
+    expect(sliderFromValue(dt, 99)).toBe(SLIDER_STEPS);
+  });
+});
+
+describe('weights grid', () => {
+  it('lays the grid out with dy rows, marks the centre and colours by sign', () => {
+    const rows = weightRows({ grid: [0, 0.25, 0, 0.25, -0.5, 0.25, 0, 0.25, 0], radius: 1, dims: 2 });
+    expect(rows.length).toBe(3);
+    expect(rows[1][1]).toMatchObject({ dx: 0, dy: 0, centre: true, text: '−0.5', colour: 0 });
+    expect(rows[0][1]).toMatchObject({ dx: 0, dy: -1, text: '0.25' });
+    expect(rows[0][0].text).toBe('·');
+    expect(rows[0][1].colour).toBeGreaterThan(128);
+  });
+  it('has one row in 1d', () => {
+    expect(weightRows({ grid: [0.4, 0.2, 0.4], radius: 1, dims: 1 }).map((r) => r.length)).toEqual([3]);
+  });
+});
+
+describe('chart series', () => {
+  it('collects range, mean and PSNR, and marks the first best step', () => {
+    const fs = [frame(1, 0, undefined, 20), frame(1, 1, undefined, 25), frame(1, 2, undefined, 25), frame(1, 3, undefined, 22)];
+    const s = seriesOf(fs, true);
+    expect(s.steps).toEqual([0, 1, 2, 3]);
+    expect(s.max).toEqual([0, 1, 2, 3]);
+    expect(s.best).toEqual({ step: 1, psnr: 25 });
+    expect(seriesSummary(s)).toContain('best PSNR 25 dB at step 1');
+    expect(seriesOf(fs, false).psnr).toBeNull();
+  });
+});
+
+describe('keys', () => {
+  it('puts start, now and change one key away', () => {
+    expect(keyAction('s')).toEqual({ kind: 'view', mode: 'start' });
+    expect(keyAction('n')).toEqual({ kind: 'view', mode: 'now' });
+    expect(keyAction('c')).toEqual({ kind: 'view', mode: 'change' });
+    expect(keyAction(' ')).toEqual({ kind: 'play' });
+    expect(keyAction('ArrowLeft')).toEqual({ kind: 'step', by: -1 });
+    expect(keyAction('q')).toBeNull();
+  });
+});
