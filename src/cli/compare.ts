@@ -6,9 +6,9 @@
 // (JSON: "ssim": null with "ssimNote"), and exit 0, because the numbers we do print are correct; a script that
 // needs SSIM sees null rather than a made-up 1.
 
-import { compareImages, formatMetric, MetricError } from '../analysis/metrics';
+import { compareImages, formatMetric, MetricError, type MetricImage } from '../analysis/metrics';
 import { readImageFile } from '../images/files';
-import { ImageError, type GreyImage } from '../images/types';
+import { ImageError, type DecodedImage } from '../images/types';
 import { guard, parseCommandLine, UsageError } from './args';
 
 const USAGE = [
@@ -19,6 +19,22 @@ const USAGE = [
 ].join('\n');
 
 const OPTIONS = { json: { type: 'boolean' }, range: { type: 'string' }, help: { type: 'boolean', short: 'h' } } as const;
+
+/**
+ * Float64 values of a decoded image. The decoder stores Float32, which rounds sample/(2^bits − 1) by up to
+ * 6e-8 relative; for grey integer files the sample is recovered exactly (16 bits fit easily in Float32's 24)
+ * and scaled again in Float64, so the metrics match a Float64 reading of the file (contracts.md §4).
+ * Colour files (luma) and float files keep the decoder's values.
+ */
+export function exactValues(d: DecodedImage): MetricImage {
+  const src = d.channels[0];
+  const data = Float64Array.from(src.data);
+  if (d.scaling && !d.colour) {
+    const { lo, hi } = d.scaling;
+    for (let i = 0; i < data.length; i++) data[i] = (Math.round(data[i] * (hi - lo) + lo) - lo) / (hi - lo);
+  }
+  return { width: src.width, height: src.height, data };
+}
 
 export function compareMain(argv: string[]): Promise<number> {
   return guard('compare', async () => {
@@ -36,9 +52,9 @@ export function compareMain(argv: string[]): Promise<number> {
       if (!Number.isFinite(lo) || !Number.isFinite(hi) || !(hi > lo)) throw new UsageError(`--range takes LO:HI with LO < HI, e.g. 0:4095; got '${o.range}'.\n${USAGE}`);
       range = { lo, hi };
     }
-    const read = async (p: string): Promise<GreyImage | null> => {
+    const read = async (p: string): Promise<MetricImage | null> => {
       try {
-        return (await readImageFile(p, range ? { range } : {})).channels[0];
+        return exactValues(await readImageFile(p, range ? { range } : {}));
       } catch (err) {
         if (err instanceof ImageError) process.stderr.write(`fluxel compare: ${err.message}\n`);
         else process.stderr.write(`fluxel compare: cannot read ${p}: ${(err as NodeJS.ErrnoException).code ?? String(err)}\n`);
