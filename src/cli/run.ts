@@ -12,13 +12,14 @@ import { ImageError, type GreyImage } from '../images/types';
 import { parseAndCheck } from '../notation';
 import type { SourceRange } from '../notation/ast';
 import { createRun, EngineError, type RunImage, type RunWarning } from '../engine';
+import { BACKEND_CHOICES, backendByName, type BackendChoice } from '../engine/wasm/select';
 import { guard, parseCommandLine, UsageError } from './args';
 import { formatDiagnostic } from './check';
 import { bestStepTracker, pictureField } from '../tune/evaluate';
 
 const USAGE = [
   'usage: fluxel run FILE [--input PATH [--range LO:HI] | --scene NAME [--noise SIGMA] [--seed N]] [--size WxH]',
-  '                  [--set NAME=VALUE ...] [--steps N] [--float64] [--field NAME] [--extremum-check]',
+  '                  [--set NAME=VALUE ...] [--steps N] [--float64] [--field NAME] [--extremum-check] [--backend js|wasm|auto]',
   '                  --output PATH [--frames DIR --every K] [--stats PATH [--metric psnr|ssim]]',
   '  --set also accepts dt=VALUE; without --input or --scene, image fields use the survey scene.',
   '  With a scene, --stats gets `best`: the step (any step, not only recorded frames) maximising --metric (default psnr).',
@@ -34,6 +35,7 @@ const OPTIONS = {
   set: { type: 'string', multiple: true },
   steps: { type: 'string' },
   float64: { type: 'boolean' },
+  backend: { type: 'string' },
   field: { type: 'string' },
   'extremum-check': { type: 'boolean' },
   output: { type: 'string', short: 'o' },
@@ -78,6 +80,8 @@ export function runMain(argv: string[]): Promise<number> {
     if ((o.frames === undefined) !== (o.every === undefined)) throw new UsageError(`--frames DIR and --every K go together.\n${USAGE}`);
     const steps = o.steps === undefined ? undefined : whole(o.steps, '--steps', 0);
     const every = o.every === undefined ? 0 : whole(o.every, '--every', 1);
+    const backendChoice = (o.backend ?? 'auto') as BackendChoice;
+    if (!BACKEND_CHOICES.includes(backendChoice)) throw new UsageError(`--backend takes js, wasm or auto, got '${o.backend}'.\n${USAGE}`);
     const params: Record<string, number> = {};
     let dt: number | undefined;
     for (const s of o.set ?? []) {
@@ -162,6 +166,8 @@ export function runMain(argv: string[]): Promise<number> {
         image, reference, params, dt, steps, every,
         width: size?.width, height: size?.height,
         dtype: o.float64 ? 'float64' : 'float32',
+        // `auto` and `wasm` both take the SIMD kernels where the scheme allows; stats.backend says what ran.
+        backend: backendByName(backendChoice),
         // SSIM only where a clean reference exists, once per recorded frame (not per step).
         ssim: reference !== null,
         // The analysis decides whether the new-extremum monitor applies (numerics.md, "Monitors"); the flag forces it.
@@ -219,6 +225,7 @@ export function runMain(argv: string[]): Promise<number> {
       },
     });
     bar?.stop();
+    if (backendChoice === 'wasm' && result.backend.startsWith('js')) process.stderr.write(`fluxel run: ${file}: ran on ${result.backend}\n`);
     await Promise.all(frameWrites);
 
     if (o.stats) {

@@ -9,7 +9,7 @@ import { psnr as psnrOf, ssim as ssimOf } from '../analysis/metrics';
 import type { CheckedScheme } from '../notation/scheme';
 import { fillGhosts, makeGeometry, planGhosts, readInterior, writeInterior, type GhostPlan } from './boundary';
 import { blurInto, gaussianTaps } from './blur';
-import { jsBackend } from './jsBackend';
+import { defaultBackend } from './wasm/select';
 import { extremumPrinciple, type ExtremumDecision } from './monitorPolicy';
 import { EngineError, planHalo, type HaloPlan } from './plan';
 import type {
@@ -149,7 +149,8 @@ export class Run {
   constructor(scheme: CheckedScheme, opts: RunOptions = {}) {
     this.scheme = scheme;
     this.dtype = opts.dtype ?? 'float32';
-    const backend = opts.backend ?? jsBackend;
+    // Without a choice: the SIMD kernels where the scheme allows (wasm/select.ts), else the JavaScript ones.
+    const backend = opts.backend ?? defaultBackend();
     this.compiled = backend.compile(scheme, { dtype: this.dtype });
 
     // Parameters: declared values, then overrides; passed to kernels as a vector so sliders never recompile.

@@ -15,8 +15,8 @@ import {
 import { wasmApi, type WasmMemory, type WasmModule } from './wasmApi';
 import { coreCount, getHelper, startOnHelper, waitForHelper } from './threads';
 
-/** Below this many pixels a second thread costs more (waking it, the barrier) than it saves. */
-const THREAD_MIN_PIXELS = 128 * 128;
+/** Below this many pixels a second thread saves little (a step is a fraction of a millisecond, the barrier is not). */
+const THREAD_MIN_PIXELS = 512 * 512;
 const CACHE_LIMIT = 32;
 
 export interface WasmOptions {

@@ -39,7 +39,7 @@ describe('fluxel run', () => {
     const s = JSON.parse(readFileSync(stats, 'utf8'));
     expect(Object.keys(s).sort()).toEqual(['backend', 'best', 'dt', 'dtype', 'frames', 'input', 'params', 'scheme', 'seed', 'sourceHash', 'stepSeconds', 'steps', 'warnings'].sort());
     expect(s.params).toEqual({ K: 0.1 });
-    expect([s.dt, s.steps, s.dtype, s.backend, s.input, s.seed]).toEqual([0.2, 12, 'float32', 'js', 'scene:cells', 3]);
+    expect([s.dt, s.steps, s.dtype, s.backend, s.input, s.seed]).toEqual([0.2, 12, 'float32', 'wasm (f32x4, 1 thread)', 'scene:cells', 3]);
     expect(s.frames.map((f: { step: number }) => f.step)).toEqual([0, 4, 8, 12]);
     expect(typeof s.frames[1].psnr, 'psnr against the clean scene').toBe('number');
     expect(Object.keys(s.frames[0].fields.u).sort()).toEqual(['max', 'mean', 'min']);
