@@ -145,13 +145,18 @@ export class SchemeEvaluator {
 
   /** Evaluates a closed expression (a field's initial value) at (x, y) without derivatives. */
   evaluatePlain(expr: Expr, x: number, y: number, read: FieldReader, t = 0): number {
-    this.opts = { read, dt: this.scheme.dt, t, diffusivity: { kind: 'frozen' } };
+    // Called once per pixel for initial states: reuse the options and the memo rather than allocate them.
+    const o = this.plainOpts;
+    if (o && o.read === read && o.t === t) this.opts = o;
+    else this.opts = this.plainOpts = { read, dt: this.scheme.dt, t, diffusivity: { kind: 'frozen' } };
     this.x0 = x;
     this.y0 = y;
-    this.memo = new Map();
-    this.calls = [];
+    if (this.memo.size) this.memo = new Map();
+    if (this.calls.length) this.calls = [];
     return this.eval(expr, x, y, EMPTY_SCOPE, false).v;
   }
+
+  private plainOpts: EvalOptions | null = null;
 
   /** Calls a user function or diffusivity on numbers (no derivatives); diffusivities are evaluated, not frozen. */
   callFunction(name: string, args: readonly number[]): number {

@@ -91,8 +91,14 @@ function matrixAt(ev: SchemeEvaluator, read: FieldReader, x: number, y: number, 
   return { n: names.length, entries };
 }
 
+/**
+ * A cache key for the limit of a stencil: its entries in evaluation order with exact weights. Equal keys mean
+ * equal stencils; a stencil reached in another order only costs a cache miss, never a wrong limit.
+ */
 function stencilSignature(w: MatrixStencil): string {
-  return w.entries.map((e) => `${e.i},${e.j},${e.dx},${e.dy}:${e.w.toPrecision(12)}`).sort().join(';');
+  let s = '';
+  for (const e of w.entries) s += `${e.i},${e.j},${e.dx},${e.dy}:${e.w};`;
+  return s;
 }
 
 function sameStencil(a: MatrixStencil, b: MatrixStencil): boolean {

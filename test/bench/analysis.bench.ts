@@ -3,6 +3,7 @@
 // of the engine over the whole 512×512 state, so the ratios show what the analysis adds. Prints; asserts nothing.
 
 import { readdirSync, readFileSync } from 'node:fs';
+import { cpus, loadavg } from 'node:os';
 import { join } from 'node:path';
 import { kernelAt } from '../../src/analysis/kernel';
 import { analyseStability } from '../../src/analysis/stability';
@@ -28,8 +29,11 @@ function time(f: () => void, runs: number): number[] {
 const dir = join(process.cwd(), 'examples');
 const files = readdirSync(dir).filter((f) => f.endsWith('.fluxel')).sort();
 const runs = 31;
-console.log('static analysis per example (median of 31 runs after 5 warm-up runs; baseline parse + check of the same file)');
-console.log(`${'example'.padEnd(20)} ${'parse+check'.padStart(12)} ${'analysis'.padStart(10)} ${'ratio'.padStart(7)}  method        target < 30 ms`);
+// Other processes inflate every figure on a shared machine: the load average says how much to trust them, and the
+// fastest run (min) is the figure least affected by it.
+console.log(`machine: ${cpus().length} cores, load average ${loadavg().map((v) => v.toFixed(1)).join(' ')}`);
+console.log('static analysis per example (median and fastest of 31 runs after 5 warm-up runs; baseline parse + check of the same file)');
+console.log(`${'example'.padEnd(20)} ${'parse+check'.padStart(12)} ${'analysis'.padStart(10)} ${'(min)'.padStart(10)} ${'ratio'.padStart(7)}  method        target < 30 ms`);
 let worst = 0;
 for (const f of files) {
   const text = readFileSync(join(dir, f), 'utf8');
@@ -47,7 +51,8 @@ for (const f of files) {
   const b = median(base);
   const a = median(ana);
   worst = Math.max(worst, a);
-  console.log(`${f.replace(/\.fluxel$/, '').padEnd(20)} ${b.toFixed(2).padStart(9)} ms ${a.toFixed(2).padStart(7)} ms ${(a / b).toFixed(1).padStart(6)}x  ${method.padEnd(12)}  ${a < 30 ? 'met' : 'NOT met'}`);
+  const fastest = Math.min(...ana);
+  console.log(`${f.replace(/\.fluxel$/, '').padEnd(20)} ${b.toFixed(2).padStart(9)} ms ${a.toFixed(2).padStart(7)} ms ${fastest.toFixed(2).padStart(7)} ms ${(a / b).toFixed(1).padStart(6)}x  ${method.padEnd(12)}  ${a < 30 ? 'met' : 'NOT met'}`);
 }
 console.log(`slowest example: ${worst.toFixed(2)} ms (target < 30 ms: ${worst < 30 ? 'met' : 'NOT met'})`);
 
