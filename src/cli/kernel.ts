@@ -20,6 +20,7 @@ const USAGE = [
   '  The weights of FIELD\' at pixel (X, Y) after N steps (default 0), with diffusivities frozen at that state',
   '  (--linearised: differentiated too). Without --input or --scene, image fields use the survey scene.',
   '  In 1d give --at X; an image contributes its middle row. The state is stepped in Float64.',
+  '  Linear schemes also get their impulse response after N steps (the declared `steps` when N is 0).',
 ].join('\n');
 
 const OPTIONS = {
