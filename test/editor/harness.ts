@@ -35,7 +35,7 @@ export async function probe<T>(kind: string, extra = ''): Promise<T> {
   const file = join(out, `probe-${++probeCount}-${kind}.json`);
   rmSync(file, { force: true });
   console.log(`FLUXEL-PROBE ${kind} ${file} ${extra}`);
-  const text = await poll(`the driver's answer to probe ${kind}`, () => (existsSync(file) ? readFileSync(file, 'utf8') : null), 45000);
+  const text = await poll(`the driver's answer to probe ${kind}`, () => (existsSync(file) ? readFileSync(file, 'utf8') : null), 90000);
   const v = JSON.parse(text) as T & { error?: string };
   if (v.error) throw new Error(`probe ${kind}: ${v.error}`);
   return v;

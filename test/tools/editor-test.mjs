@@ -94,8 +94,10 @@ await page.exposeFunction('codeAutomationExit', (code) => { exitCode = code; });
 /** What the suite cannot see through the API: answered into the JSON file it named, which it polls for. */
 async function handleProbe(kind, file, extra) {
   const poll = async (fn, what) => {
-    for (let i = 0; i < 200; i++) { const v = await fn(); if (v) return v; await page.waitForTimeout(100); }
-    throw new Error(`probe ${kind}: ${what} never appeared`);
+    const t = Date.now();
+    while (Date.now() - t < 40000) { const v = await fn(); if (v) return v; await page.waitForTimeout(100); }
+    await page.screenshot({ path: join(OUT, `probe-failed-${kind}.png`) }).catch(() => {});
+    throw new Error(`${what} never appeared (screen: test/out/editor/probe-failed-${kind}.png)`);
   };
   let answer;
   if (kind === 'tokens') {
@@ -125,6 +127,16 @@ async function handleProbe(kind, file, extra) {
     const colours = new Set();
     for (let i = 0; i < png.data.length; i += 4 * 7) colours.add((png.data[i] << 16) | (png.data[i + 1] << 8) | png.data[i + 2]);
     answer = { path, width: png.width, height: png.height, colours: colours.size, hoverText: hover.text, hoverImages: hover.images, squiggles };
+  } else if (kind === 'row') {
+    // A row of a list in the active editor pane whose text contains `extra` (e.g. Fluxel in Running Extensions).
+    answer = await poll(() => page.evaluate((w) => {
+      const rows = [...document.querySelectorAll('.editor-instance .monaco-list-row')].map((r) => ({
+        text: r.innerText.replace(/\s+/g, ' '),
+        titles: [...r.querySelectorAll('[title], [aria-label]')].map((e) => e.getAttribute('title') || e.getAttribute('aria-label')).filter(Boolean),
+      }));
+      const row = rows.find((r) => r.text.includes(w));
+      return row ? { text: row.text, titles: row.titles, others: rows.filter((r) => r !== row).map((r) => r.text) } : null;
+    }, extra), `a list row with "${extra}"`);
   } else throw new Error(`unknown probe ${kind}`);
   writeFileSync(file, JSON.stringify(answer));
 }
