@@ -12,7 +12,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { WireVerdict } from '../../protocol/preview';
-import type { FromAnalysis, ImpulseResult, KnobSet, ToAnalysis, WeightsResult } from './analysisProtocol';
+import type { FromAnalysis, ImpulseResult, KnobSet, Picture, ToAnalysis, WeightsResult } from './analysisProtocol';
 
 export const ANALYSIS_BUNDLE_NAME = 'preview-analysis.js';
 
@@ -46,6 +46,8 @@ export interface AnalysisService {
   verdict(text: string, knobs: KnobSet): Promise<{ verdict: WireVerdict; extremumCheck: boolean }>;
   weights(req: Omit<ToAnalysis.Weights, 'type' | 'id'>): Promise<WeightsResult>;
   impulse(text: string, knobs: KnobSet, steps: number): Promise<ImpulseResult | null>;
+  scene(scene: string, noise: number, seed: number, size: number): Promise<{ noisy: Picture; clean: Picture }>;
+  decode(bytes: Uint8Array): Promise<Picture>;
   dispose(): Promise<void>;
 }
 
@@ -82,12 +84,24 @@ export class AnalysisClient implements AnalysisService {
     return this.worker;
   }
 
-  private async request(msg: ToAnalysis.Type): Promise<FromAnalysis.Type> {
+  private async request(msg: ToAnalysis.Type, transfer: ArrayBuffer[] = []): Promise<FromAnalysis.Type> {
     const w = await this.ensure();
     return new Promise((resolve, reject) => {
       this.pending.set(msg.id, { resolve, reject });
-      w.postMessage(msg);
+      w.postMessage(msg, transfer);
     });
+  }
+
+  async scene(scene: string, noise: number, seed: number, size: number): Promise<{ noisy: Picture; clean: Picture }> {
+    const m = await this.request({ type: 'scene', id: this.nextId++, scene, noise, seed, size });
+    if (m.type !== 'scene') throw new Error('unexpected answer');
+    return { noisy: m.noisy, clean: m.clean };
+  }
+
+  async decode(bytes: Uint8Array): Promise<Picture> {
+    const m = await this.request({ type: 'decode', id: this.nextId++, bytes });
+    if (m.type !== 'decode') throw new Error('unexpected answer');
+    return m.picture;
   }
 
   async verdict(text: string, knobs: KnobSet): Promise<{ verdict: WireVerdict; extremumCheck: boolean }> {

@@ -1,14 +1,17 @@
 // What the analysis worker computes, as plain functions (so unit tests call them without a thread): the static
-// verdict for given knob values, the weights at one pixel of a full-resolution state, and the impulse response.
+// verdict for given knob values, the weights at one pixel of a full-resolution state, the impulse response, scenes
+// and decoded image files.
 // Must not import vscode, Node or the DOM.
 
 import { impulseResponse, kernelAt } from '../../analysis/kernel';
 import { analyseStability } from '../../analysis/stability';
 import { extremumPrinciple } from '../../engine/monitorPolicy';
+import { decodeImage } from '../../images/codec';
+import { makeScene } from '../../images/scenes';
 import { parseAndCheck } from '../../notation';
 import type { CheckedScheme } from '../../notation/scheme';
 import type { WireVerdict } from '../../protocol/preview';
-import type { ImpulseResult, KnobSet, WeightsResult } from './analysisProtocol';
+import type { ImpulseResult, KnobSet, Picture, WeightsResult } from './analysisProtocol';
 
 let lastText: string | null = null;
 let lastScheme: CheckedScheme | null = null;
@@ -54,4 +57,14 @@ export function computeImpulse(text: string, knobs: KnobSet, steps: number): Imp
   const r = impulseResponse(scheme, steps, { maxRadius: 64 });
   if (!r) return null;
   return { steps: r.steps, t: r.t, sigma: [...r.sigma], heatSigma: r.heatSigma, sum: r.sum, truncated: r.truncated };
+}
+
+export function scenePictures(name: string, noise: number, seed: number, size: number): { noisy: Picture; clean: Picture } {
+  const s = makeScene(name, { width: size, height: size, noise, seed });
+  return { noisy: s.noisy, clean: s.clean };
+}
+
+export function decodePicture(bytes: Uint8Array): Picture {
+  const c = decodeImage(bytes, {}).channels[0];
+  return { width: c.width, height: c.height, data: c.data };
 }

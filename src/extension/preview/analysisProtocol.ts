@@ -1,5 +1,5 @@
 // Messages between the live run's host side and its analysis worker (stability verdict, weights at a pixel,
-// impulse response). Types only; the worker parses the scheme text itself, so requests carry plain data.
+// impulse response, scene generation and image decoding). Types only; the worker parses the scheme text itself, so requests carry plain data.
 // Must not import vscode or the DOM.
 
 import type { WireVerdict } from '../../protocol/preview';
@@ -26,7 +26,11 @@ export namespace ToAnalysis {
     readonly field: string;
   }
   export interface Impulse { readonly type: 'impulse'; readonly id: number; readonly text: string; readonly knobs: KnobSet; readonly steps: number }
-  export type Type = Verdict | Weights | Impulse;
+  /** A generated scene (its noisy input and clean reference). */
+  export interface Scene { readonly type: 'scene'; readonly id: number; readonly scene: string; readonly noise: number; readonly seed: number; readonly size: number }
+  /** Decodes an image file's bytes to its first grey channel. */
+  export interface Decode { readonly type: 'decode'; readonly id: number; readonly bytes: Uint8Array }
+  export type Type = Verdict | Weights | Impulse | Scene | Decode;
 }
 
 export interface WeightsResult {
@@ -50,10 +54,18 @@ export interface ImpulseResult {
   readonly truncated: boolean;
 }
 
+export interface Picture {
+  readonly width: number;
+  readonly height: number;
+  readonly data: Float32Array;
+}
+
 export namespace FromAnalysis {
   export interface Verdict { readonly type: 'verdict'; readonly id: number; readonly verdict: WireVerdict; readonly extremumCheck: boolean }
   export interface Weights { readonly type: 'weights'; readonly id: number; readonly weights: WeightsResult }
   export interface Impulse { readonly type: 'impulse'; readonly id: number; readonly impulse: ImpulseResult | null }
+  export interface Scene { readonly type: 'scene'; readonly id: number; readonly noisy: Picture; readonly clean: Picture }
+  export interface Decode { readonly type: 'decode'; readonly id: number; readonly picture: Picture }
   export interface Failed { readonly type: 'error'; readonly id: number; readonly message: string }
-  export type Type = Verdict | Weights | Impulse | Failed;
+  export type Type = Verdict | Weights | Impulse | Scene | Decode | Failed;
 }

@@ -1,10 +1,10 @@
 // Entry point of the live run's analysis thread (bundled as dist/preview-analysis.js): the stability analysis can
 // take a few hundred milliseconds, which must never block the extension host, so it runs here, as do the weights
-// at a picked pixel and the impulse response. Must not import vscode or the DOM.
+// at a picked pixel, the impulse response, scene generation and image decoding. Must not import vscode or the DOM.
 
 import { parentPort } from 'node:worker_threads';
 import type { FromAnalysis, ToAnalysis } from './analysisProtocol';
-import { computeImpulse, computeVerdict, computeWeights } from './analysisCompute';
+import { computeImpulse, computeVerdict, computeWeights, decodePicture, scenePictures } from './analysisCompute';
 
 function answer(msg: ToAnalysis.Type): FromAnalysis.Type {
   try {
@@ -15,6 +15,8 @@ function answer(msg: ToAnalysis.Type): FromAnalysis.Type {
         weights: computeWeights(msg.text, msg.knobs, { fields: msg.fields, width: msg.width, height: msg.height, t: msg.t }, msg.x, msg.y, msg.field),
       };
       case 'impulse': return { type: 'impulse', id: msg.id, impulse: computeImpulse(msg.text, msg.knobs, msg.steps) };
+      case 'scene': return { type: 'scene', id: msg.id, ...scenePictures(msg.scene, msg.noise, msg.seed, msg.size) };
+      case 'decode': return { type: 'decode', id: msg.id, picture: decodePicture(msg.bytes) };
     }
   } catch (err) {
     return { type: 'error', id: (msg as { id: number }).id, message: err instanceof Error ? err.message : String(err) };
@@ -22,5 +24,9 @@ function answer(msg: ToAnalysis.Type): FromAnalysis.Type {
 }
 
 parentPort?.on('message', (msg: ToAnalysis.Type) => {
-  if (msg && typeof msg === 'object' && typeof msg.id === 'number') parentPort?.postMessage(answer(msg));
+  if (!msg || typeof msg !== 'object' || typeof msg.id !== 'number') return;
+  const a = answer(msg);
+  // Pictures travel back by transfer, not by copy.
+  const transfer = a.type === 'scene' ? [a.noisy.data.buffer, a.clean.data.buffer] : a.type === 'decode' ? [a.picture.data.buffer] : [];
+  parentPort?.postMessage(a, transfer as ArrayBuffer[]);
 });

@@ -116,10 +116,9 @@ export class LiveRunPanel extends Disposable {
   }
 
   private async readImage(uri: string): Promise<GreyPicture> {
-    const [bytes, { decodeImage }] = await Promise.all([vscode.workspace.fs.readFile(vscode.Uri.parse(uri, true)), import('../../images/codec')]);
-    const decoded = decodeImage(bytes, {});
-    const c = decoded.channels[0];
-    return { width: c.width, height: c.height, data: c.data };
+    // Read through the workspace file system (remote and virtual folders too); decoded in the analysis thread.
+    const bytes = await vscode.workspace.fs.readFile(vscode.Uri.parse(uri, true));
+    return this.ctx.analysis().decode(bytes);
   }
 
   /** Writes knob values as one undoable edit, only if the document still holds the text they were computed on. */

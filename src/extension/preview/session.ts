@@ -6,7 +6,7 @@
 import type { FieldSnapshot, WorkerRunOptions } from '../../engine/worker/protocol';
 import type { WorkerRunCallbacks, WorkerRunHandle } from '../../engine/worker/workerClient';
 import type { FrameStats, RunWarning } from '../../engine/types';
-import { makeScene, type Scene } from '../../images/scenes';
+import { canonicalScheme } from '../../engine/plan';
 import { parse, parseAndCheck } from '../../notation';
 import type { SourceRange } from '../../notation/ast';
 import type { CheckedScheme } from '../../notation/scheme';
@@ -59,6 +59,8 @@ export interface SessionEnv {
 
 /** A step longer than this is "long": cancelling then terminates the worker instead of waiting (contracts §5). */
 export const LONG_STEP_MS = 40;
+/** Before any step has come back, set-up (compiling, the first step) may take this long before a cancel terminates. */
+export const LONG_FIRST_STEP_MS = 250;
 
 export const DEFAULT_INPUT: InputChoice = { kind: 'scene', scene: 'survey', noise: 0.1, seed: 7 };
 
@@ -95,9 +97,10 @@ interface LiveRun {
   ended: ToPreview.RunEnded | null;
   verdict: ToPreview.Verdict | null;
   impulse: ToPreview.Impulse | null;
-  /** Milliseconds per step seen so far (NaN until two frames arrived); started-at time for the first step. */
+  /** Milliseconds per step between recorded frames (NaN until two frames arrived). */
   stepMs: number;
-  readonly startedAt: number;
+  /** When the run was handed to the worker (NaN while it waits for the worker). */
+  launchedAt: number;
 }
 
 export class PreviewSession {
@@ -117,9 +120,14 @@ export class PreviewSession {
   private shownField: string | null = null;
   private schemeMsg: ToPreview.Scheme | null = null;
   private problemsMsg: ToPreview.Problems | null = null;
-  private sceneCache: { key: string; scene: Scene } | null = null;
-  private fileCache: { uri: string; picture: GreyPicture } | null = null;
-  private extremumByText = new Map<string, boolean>();
+  /** The input picture (and clean reference for scenes) of the last input used, keyed by inputKey(). */
+  private pictures: { key: string; image: GreyPicture; reference: GreyPicture | null } | null = null;
+  private fetching: string | null = null;
+  /** The analysis' decision on the new-extremum monitor, by scheme meaning and knob values (comments do not count). */
+  private extremumByKey = new Map<string, boolean>();
+  /** The run occupying the current worker (until its `done` settles), and the newest launch waiting for it. */
+  private busy: LiveRun | null = null;
+  private waiting: (() => void) | null = null;
   private disposed = false;
 
   constructor(private readonly env: SessionEnv) {
@@ -205,23 +213,57 @@ export class PreviewSession {
     this.env.post(this.schemeMsg);
   }
 
-  private scene(input: Extract<InputChoice, { kind: 'scene' }>): Scene {
-    const size = this.env.settings().sceneSize;
-    const key = `${input.scene}/${input.noise}/${input.seed}/${size}`;
-    if (this.sceneCache?.key !== key) this.sceneCache = { key, scene: makeScene(input.scene, { width: size, height: size, noise: input.noise, seed: input.seed }) };
-    return this.sceneCache.scene;
+  private inputKey(input: InputChoice): string {
+    return input.kind === 'scene' ? `scene/${input.scene}/${input.noise}/${input.seed}/${this.env.settings().sceneSize}` : `file/${input.uri}`;
   }
 
-  /** Cancels the current run. A long step (or a first step that has not come back in time) costs a new worker. */
+  /** Makes the scene or reads the file off the host thread (the analysis thread), then runs if nothing newer started. */
+  private fetchInput(input: InputChoice): void {
+    const key = this.inputKey(input);
+    if (this.fetching === key) return;
+    this.fetching = key;
+    const size = this.env.settings().sceneSize;
+    const got = input.kind === 'scene'
+      ? this.env.analysis.scene(input.scene, input.noise, input.seed, size).then((s) => ({ image: s.noisy as GreyPicture, reference: s.clean as GreyPicture | null }))
+      : this.env.readImage(input.uri).then((image) => ({ image, reference: null }));
+    got.then(
+      (p) => {
+        if (this.fetching === key) this.fetching = null;
+        this.pictures = { key, ...p };
+        if (!this.disposed && this.inputKey(this.input) === key) this.startRun();
+      },
+      (err: unknown) => {
+        if (this.fetching === key) this.fetching = null;
+        this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `Cannot read ${inputLabel(input)}: ${err instanceof Error ? err.message : String(err)}` });
+        if (input.kind === 'file') this.setInput(DEFAULT_INPUT);
+      },
+    );
+  }
+
+  /** A run's worker call has settled: the worker is free for the launch that waits, if any. */
+  private settled(run: LiveRun): void {
+    if (this.busy !== run) return;
+    this.busy = null;
+    const next = this.waiting;
+    this.waiting = null;
+    next?.();
+  }
+
+  /**
+   * Cancels the current run (the worker sees it within one step). When a step is long, or the first step has not
+   * come back after LONG_FIRST_STEP_MS, the worker is terminated instead and the next run gets a new one.
+   */
   private stopRun(): void {
+    this.waiting = null;
     const r = this.run;
     if (!r || !r.handle || r.ended) return;
     r.handle.cancel();
-    const waited = performance.now() - r.startedAt;
-    const long = Number.isFinite(r.stepMs) ? r.stepMs > LONG_STEP_MS : r.frames.length <= 1 && waited > LONG_STEP_MS;
+    const waited = performance.now() - r.launchedAt;
+    const long = Number.isFinite(r.stepMs) ? r.stepMs > LONG_STEP_MS : r.frames.length <= 1 && waited > LONG_FIRST_STEP_MS;
     if (long && r.engine) {
       const old = r.engine;
       if (this.engine === old) this.engine = null;
+      if (this.busy === r) this.busy = null;
       void old.terminate().catch(() => undefined);
     }
     r.handle = null;
@@ -234,31 +276,15 @@ export class PreviewSession {
     const runId = this.nextRunId++;
     const input = this.input;
     const knobs = this.knobs();
-    if (input.kind === 'file' && this.fileCache?.uri !== input.uri) {
-      // Read the image first; the run starts when it arrives (unless something newer started meanwhile).
-      this.env.readImage(input.uri).then(
-        (picture) => {
-          this.fileCache = { uri: input.uri, picture };
-          if (this.nextRunId === runId + 1 && !this.disposed) this.startRun();
-        },
-        (err: unknown) => {
-          this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `Cannot read ${inputLabel(input)}: ${err instanceof Error ? err.message : String(err)}` });
-          this.setInput(DEFAULT_INPUT);
-        },
-      );
-      return;
-    }
     const s = g.scheme;
     const needsImage = s.fields.some((f) => f.init.kind === 'image');
-    let image: GreyPicture | null = null;
-    let reference: GreyPicture | null = null;
-    if (input.kind === 'scene') {
-      const sc = this.scene(input);
-      image = sc.noisy;
-      reference = sc.clean;
-    } else if (this.fileCache) {
-      image = this.fileCache.picture;
+    if (needsImage && this.pictures?.key !== this.inputKey(input)) {
+      // The picture is made or read first, off the host thread; the run starts when it arrives.
+      this.fetchInput(input);
+      return;
     }
+    const image = needsImage && this.pictures ? this.pictures.image : null;
+    const reference = needsImage && this.pictures ? this.pictures.reference : null;
     const size = this.env.settings().sceneSize;
     const width = s.dims === 1 ? (image?.width ?? size) : image?.width ?? size;
     const height = s.dims === 1 ? 1 : image?.height ?? size;
@@ -273,52 +299,70 @@ export class PreviewSession {
     };
     const run: LiveRun = {
       runId, text: g.text, scheme: s, knobs, started, shrink, handle: null, engine: null, frames: [], findings: [], ended: null,
-      verdict: null, impulse: null, stepMs: NaN, startedAt: performance.now(),
+      verdict: null, impulse: null, stepMs: NaN, launchedAt: NaN,
     };
     this.run = run;
     this.env.post(started);
 
-    const known = this.extremumByText.get(g.text);
+    const monitorKey = `${canonicalScheme(s)}|${JSON.stringify(knobs)}`;
+    const known = this.extremumByKey.get(monitorKey);
     const options: WorkerRunOptions = {
       ...(needsImage && image ? { image } : { width, height }),
       ...(needsImage && reference ? { reference } : {}),
       params: knobs.values, dt: knobs.dt, every,
       monitors: { extremumCheck: known ?? 'auto' },
     };
-    if (!this.engine) this.engine = this.env.newEngine();
-    run.engine = this.engine;
-    let lastFrameAt = NaN;
-    let lastFrameStep = 0;
-    try {
-      run.handle = this.engine.start({ scheme: s }, options, {
-        onFrame: (stats, fields) => {
-          const now = performance.now();
-          if (stats.step > lastFrameStep && Number.isFinite(lastFrameAt)) run.stepMs = (now - lastFrameAt) / (stats.step - lastFrameStep);
-          else if (stats.step > 0) run.stepMs = (now - run.startedAt) / stats.step;
-          lastFrameAt = now;
-          lastFrameStep = stats.step;
-          const frame: StoredFrame = { step: stats.step, t: stats.t, stats, fields };
-          run.frames.push(frame);
-          if (this.run === run) this.postFrame(run, frame);
+    const launch = () => {
+      if (this.run !== run || this.disposed) return;
+      if (!this.engine) this.engine = this.env.newEngine();
+      const engine = this.engine;
+      run.engine = engine;
+      run.launchedAt = performance.now();
+      this.busy = run;
+      let lastFrameAt = NaN;
+      let lastFrameStep = 0;
+      try {
+        run.handle = engine.start({ scheme: s }, options, {
+          onFrame: (stats, fields) => {
+            const now = performance.now();
+            // Time per step from consecutive frames only: the first frame also pays for compiling and set-up.
+            if (Number.isFinite(lastFrameAt) && stats.step > lastFrameStep) run.stepMs = (now - lastFrameAt) / (stats.step - lastFrameStep);
+            lastFrameAt = now;
+            lastFrameStep = stats.step;
+            const frame: StoredFrame = { step: stats.step, t: stats.t, stats, fields };
+            run.frames.push(frame);
+            if (this.run === run) this.postFrame(run, frame);
+          },
+          onWarning: (w) => {
+            const msg = this.findingMsg(run, w);
+            run.findings.push(msg);
+            if (this.run === run) this.env.post(msg);
+          },
+        });
+      } catch (err) {
+        this.settled(run);
+        this.endRun(run, 'failed', 0, null, err instanceof Error ? err.message : String(err));
+        return;
+      }
+      run.handle.done.then(
+        ({ result }) => {
+          this.settled(run);
+          this.endRun(run, result.status, result.stepsDone, result.best ?? null, null);
         },
-        onWarning: (w) => {
-          const msg = this.findingMsg(run, w);
-          run.findings.push(msg);
-          if (this.run === run) this.env.post(msg);
+        (err: unknown) => {
+          this.settled(run);
+          this.endRun(run, run.handle === null ? 'cancelled' : 'failed', run.frames.at(-1)?.step ?? 0, null, err instanceof Error ? err.message : String(err));
         },
-      });
-    } catch (err) {
-      this.endRun(run, 'failed', 0, null, err instanceof Error ? err.message : String(err));
-      return;
-    }
-    run.handle.done.then(
-      ({ result }) => this.endRun(run, result.status, result.stepsDone, result.best ?? null, null),
-      (err: unknown) => this.endRun(run, run.handle === null ? 'cancelled' : 'failed', run.frames.at(-1)?.step ?? 0, null, err instanceof Error ? err.message : String(err)),
-    );
+      );
+    };
+    // One run at a time per worker: while a cancelled run finishes its step, only the newest start waits
+    // (starts queued in the worker would each pay for set-up before seeing their own cancellation).
+    if (this.busy && this.busy.engine === this.engine && this.engine) this.waiting = launch;
+    else launch();
     // The static verdict and the impulse response come from the analysis thread, beside the run.
     this.env.analysis.verdict(g.text, knobs).then(
       (v) => {
-        this.extremumByText.set(g.text, v.extremumCheck);
+        this.extremumByKey.set(monitorKey, v.extremumCheck);
         run.verdict = { type: 'verdict', source: this.env.source, runId, verdict: v.verdict };
         if (this.run === run) this.env.post(run.verdict);
       },
@@ -355,7 +399,8 @@ export class PreviewSession {
     const name = this.shownField && frame.fields[this.shownField] ? this.shownField : run.started.field;
     const snap = frame.fields[name];
     if (!snap) return;
-    const small = downsample(snap, run.shrink);
+    // At full size the stored Float32 snapshot is posted as it is (posting copies it); otherwise it is averaged down.
+    const small = run.shrink === 1 && snap.data instanceof Float32Array ? { width: snap.width, height: snap.height, data: snap.data } : downsample(snap, run.shrink);
     const st = frame.stats.fields[name] ?? { min: NaN, max: NaN, mean: NaN };
     this.env.post({
       type: 'frame', source: this.env.source, runId: run.runId, field: name, step: frame.step, t: frame.t,
@@ -484,6 +529,7 @@ export class PreviewSession {
     this.disposed = true;
     this.clearTimer();
     this.stopRun();
+    this.busy = null;
     const e = this.engine;
     this.engine = null;
     if (e) void e.terminate().catch(() => undefined);

@@ -40,7 +40,12 @@ class FakeEngine implements EngineLike {
     done.catch(() => undefined);
     const run: FakeRun = { options, cb, cancelled: false, resolve, reject, engine: this };
     this.runs.push(run);
-    return { runId: this.runs.length, done, cancel: () => { run.cancelled = true; } };
+    // Like the real worker, a cancelled run ends after its current step: here, on the next microtask.
+    const cancel = () => {
+      run.cancelled = true;
+      queueMicrotask(() => resolve({ result: { status: 'cancelled', stepsDone: 0, steps: 4, dt: 0.2, params: {}, dtype: 'float32', backend: 'js', stepSeconds: 0, frames: [], warnings: [] }, fields: {} }));
+    };
+    return { runId: this.runs.length, done, cancel };
   }
   async terminate(): Promise<void> {
     this.terminated = true;
@@ -70,6 +75,8 @@ function setup(opts: { debounceMs?: number; input?: InputChoice } = {}) {
       return { field: req.field, radius: 1, dims: 2, grid: [0, 0.1, 0, 0.1, 0.6, 0.1, 0, 0.1, 0], sum: 1, centre: 0.6, negativeCentre: false, value: 0.5, others: 0 };
     },
     impulse: async (_t, _k, steps) => ({ steps, t: steps * 0.2, sigma: [1, 1], heatSigma: 1, sum: 1, truncated: false }),
+    scene: async (_name, _noise, _seed, size) => ({ noisy: { width: size, height: size, data: new Float32Array(size * size).fill(0.5) }, clean: { width: size, height: size, data: new Float32Array(size * size) } }),
+    decode: async () => ({ width: 1, height: 1, data: new Float32Array(1) }),
     dispose: async () => undefined,
   };
   const edits: { edits: unknown; text: string }[] = [];
@@ -99,14 +106,17 @@ function setup(opts: { debounceMs?: number; input?: InputChoice } = {}) {
 }
 
 /** Lets pending promise callbacks run (no timers involved). */
-const settle = () => new Promise<void>((r) => setImmediate(r));
+const settle = async () => {
+  for (let i = 0; i < 20; i++) await Promise.resolve();
+};
 
 afterEach(() => vi.useRealTimers());
 
-describe('live run session', () => {
+describe('live run session', async () => {
   it('checks and runs on the first change: scheme, run start with sizes, then frames in order', async () => {
     const { session, runs, of } = setup();
     session.documentChanged(SCHEME);
+    await settle();
     expect(of('scheme')[0]).toMatchObject({ fileName: 'a.fluxel', dims: 2, fields: ['u'], knobs: [{ name: 'K', value: 0.5, lo: 0, hi: 1 }], steps: 4, current: { values: { K: 0.5 }, dt: 0.2 } });
     expect(runs.length).toBe(1);
     const started = of('runStarted')[0];
@@ -124,10 +134,23 @@ describe('live run session', () => {
     expect(of('impulse')[0]).toMatchObject({ steps: 4 });
   });
 
-  it('folds edits inside the debounce window into one run, the first edit after a pause running at once', () => {
+  it('makes the scene off the host thread once, and runs when it arrives', async () => {
+    const { session, runs, of } = setup();
+    session.documentChanged(SCHEME);
+    session.documentChanged(SCHEME + '# 1\n');
+    expect(runs.length).toBe(0);
+    await settle();
+    expect(runs.length).toBe(1);
+    expect(of('runStarted').length).toBe(1);
+    expect((runs[0].options.image as { data: ArrayLike<number> }).data[0]).toBe(0.5);
+    expect(runs[0].options.reference).toBeDefined();
+  });
+
+  it('folds edits inside the debounce window into one run, the first edit after a pause running at once', async () => {
     vi.useFakeTimers();
     const { session, runs } = setup({ debounceMs: 150 });
     session.documentChanged(SCHEME);
+    await settle();
     expect(runs.length).toBe(1);
     session.documentChanged(SCHEME + '# a\n');
     session.documentChanged(SCHEME + '# ab\n');
@@ -135,13 +158,15 @@ describe('live run session', () => {
     vi.advanceTimersByTime(149);
     expect(runs.length).toBe(1);
     vi.advanceTimersByTime(1);
-    expect(runs.length).toBe(2);
     expect(runs[0].cancelled).toBe(true);
+    await settle();
+    expect(runs.length).toBe(2);
   });
 
-  it('drops frames and findings of a replaced run, and cancels it without a new worker when steps are short', () => {
+  it('drops frames and findings of a replaced run, and cancels it without a new worker when steps are short', async () => {
     const { session, runs, engines, of } = setup();
     session.documentChanged(SCHEME);
+    await settle();
     runs[0].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
     runs[0].cb.onFrame?.(stats(1), { u: snapshot(32, 32, () => 0) });
     session.documentChanged(SCHEME + '# edit\n');
@@ -157,9 +182,26 @@ describe('live run session', () => {
     expect(new Set(ids).size).toBe(2);
   });
 
-  it('terminates the worker and starts a new one when the current step is long (contracts §5)', () => {
+  it('hands only the newest of several quick edits to the worker, after the cancelled run has ended', async () => {
+    const { session, runs, engines, of } = setup();
+    session.documentChanged(SCHEME);
+    await settle();
+    runs[0].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
+    for (let k = 0; k < 5; k++) session.documentChanged(`${SCHEME}# ${k}\n`);
+    expect(runs.length).toBe(1);
+    await settle();
+    expect(runs.length).toBe(2);
+    expect(engines.length).toBe(1);
+    expect(of('runStarted').length).toBe(6);
+    // The launched run is the newest one: its frames are posted, with its id.
+    runs[1].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
+    expect(of('frame').at(-1)?.runId).toBe(of('runStarted').at(-1)?.runId);
+  });
+
+  it('terminates the worker and starts a new one when the current step is long (contracts §5)', async () => {
     const { session, runs, engines } = setup();
     session.documentChanged(SCHEME);
+    await settle();
     // No frame beyond step 0 has come back, and the run started long ago: a long first step.
     runs[0].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
     const t0 = performance.now();
@@ -171,9 +213,10 @@ describe('live run session', () => {
     expect(runs[1].engine).toBe(engines[1]);
   });
 
-  it('keeps the last good run while the file has errors and reports the first error', () => {
+  it('keeps the last good run while the file has errors and reports the first error', async () => {
     const { session, runs, of } = setup();
     session.documentChanged(SCHEME);
+    await settle();
     session.documentChanged(SCHEME.replace("u' = u +", "u' = q +"));
     expect(runs.length).toBe(1);
     expect(runs[0].cancelled).toBe(false);
@@ -181,6 +224,7 @@ describe('live run session', () => {
     expect(p.count).toBeGreaterThanOrEqual(1);
     expect(p.first?.range.start.line).toBe(7);
     session.documentChanged(SCHEME);
+    await settle();
     expect(of('problems').at(-1)).toMatchObject({ count: 0, first: null });
     expect(runs.length).toBe(2);
   });
@@ -188,12 +232,16 @@ describe('live run session', () => {
   it('reruns at once with moved knobs, and a knob follows the file again when the file changes it', async () => {
     const { session, runs, of } = setup();
     session.documentChanged(SCHEME);
+    await settle();
     await session.handle({ type: 'setKnobs', source: 'file:///w/a.fluxel', values: { K: 0.75 }, dt: 0.1 });
+    await settle();
     expect(runs.length).toBe(2);
     expect(runs[1].options).toMatchObject({ params: { K: 0.75 }, dt: 0.1 });
     session.documentChanged(SCHEME + '# comment\n');
+    await settle();
     expect(runs[2].options).toMatchObject({ params: { K: 0.75 }, dt: 0.1 });
     session.documentChanged(SCHEME.replace('K = 0.5', 'K = 0.25'));
+    await settle();
     expect(runs[3].options).toMatchObject({ params: { K: 0.25 }, dt: 0.1 });
     expect(of('scheme').at(-1)?.current).toEqual({ values: { K: 0.25 }, dt: 0.1 });
   });
@@ -201,6 +249,7 @@ describe('live run session', () => {
   it('computes weights from the full-resolution state of the picked step', async () => {
     const { session, runs, weightsCalls, of } = setup();
     session.documentChanged(SCHEME);
+    await settle();
     runs[0].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
     runs[0].cb.onFrame?.(stats(2), { u: snapshot(32, 32, (i) => i) });
     const runId = of('runStarted')[0].runId;
@@ -220,6 +269,7 @@ describe('live run session', () => {
   it('sends a full-resolution row before and after', async () => {
     const { session, runs, of } = setup();
     session.documentChanged(SCHEME);
+    await settle();
     runs[0].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
     runs[0].cb.onFrame?.(stats(1), { u: snapshot(32, 32, (i) => i) });
     await session.handle({ type: 'requestProfile', source: 'file:///w/a.fluxel', runId: of('runStarted')[0].runId, step: 1, row: 3 });
@@ -231,6 +281,7 @@ describe('live run session', () => {
   it('writes knobs as edits on the current text, and reveals ranges through the editor', async () => {
     const { session, edits, revealed } = setup();
     session.documentChanged(SCHEME);
+    await settle();
     await session.handle({ type: 'writeKnobs', source: 'file:///w/a.fluxel', values: { K: 0.7 }, dt: 0.15 });
     expect(edits.length).toBe(1);
     expect(edits[0].text).toBe(SCHEME);
@@ -243,6 +294,7 @@ describe('live run session', () => {
   it('remembers the input choice and reruns on it; an image file is read first', async () => {
     const { session, runs, remembered, of } = setup({ input: { kind: 'scene', scene: 'card', noise: 0, seed: 2 } });
     session.documentChanged(SCHEME);
+    await settle();
     expect(of('scheme')[0].input).toEqual({ kind: 'scene', scene: 'card', noise: 0, seed: 2 });
     await session.handle({ type: 'chooseImage', source: 'file:///w/a.fluxel' });
     expect(remembered.at(-1)).toEqual({ kind: 'file', uri: 'file:///w/pic.png' });
@@ -256,6 +308,7 @@ describe('live run session', () => {
   it('replays scheme, run, frames, findings, verdict and end to a page that reloaded', async () => {
     const { session, runs, posted, of } = setup();
     session.documentChanged(SCHEME);
+    await settle();
     runs[0].cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
     runs[0].cb.onWarning?.({ kind: 'new-extremum', step: 0, x: 2, y: 3, field: 'u', message: 'm', range: { start: { offset: 0, line: 7, column: 1 }, end: { offset: 5, line: 7, column: 6 } } });
     runs[0].resolve({ result: { status: 'done', stepsDone: 4, steps: 4, dt: 0.2, params: {}, dtype: 'float32', backend: 'js', stepSeconds: 0, frames: [], warnings: [] }, fields: {} });
@@ -267,9 +320,10 @@ describe('live run session', () => {
     expect(of('runEnded')[0]).toMatchObject({ status: 'done', stepsDone: 4 });
   });
 
-  it('stops its run and its worker when disposed', () => {
+  it('stops its run and its worker when disposed', async () => {
     const { session, runs, engines } = setup();
     session.documentChanged(SCHEME);
+    await settle();
     session.dispose();
     expect(runs[0].cancelled).toBe(true);
     expect(engines[0].terminated).toBe(true);
