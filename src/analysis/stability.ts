@@ -38,6 +38,8 @@ export interface StabilityReport {
   readonly positivityLimit?: number | null;
   readonly diffusionLimit?: number | null;
   readonly unconditional?: boolean;
+  /** True when dt equals the von Neumann limit within MARGINAL_REL: |G| = 1 at the worst frequency (numerics.md). */
+  readonly marginal?: boolean;
   /** True for the linearised method: a local, frozen-coefficient estimate. */
   readonly estimate?: boolean;
   /** Modes the equations themselves make grow (Re μ > 0), excluded from the limit. */
@@ -50,6 +52,11 @@ export interface AnalyseOptions {
 }
 
 const REL = 1e-9;
+/**
+ * dt within this relative distance of the von Neumann limit is "marginal" (numerics.md): the |G| tolerance
+ * MARGIN = 1e-7 leaves the limit itself uncertain by about that much, so a looser window than REL is used.
+ */
+const MARGINAL_REL = 1e-6;
 
 function fmt(v: number): string {
   return Number(v.toPrecision(6)).toString();
@@ -172,9 +179,13 @@ function vonNeumannReport(scheme: CheckedScheme, model: DtModel, diffusivities: 
     return { ...base, limit: null, stable: false, unconditional: false, reason: `Von Neumann: |G(θ)| > 1 near θ = ${fmtTheta(vn.worstTheta)} for every dt > 0${growthNote}.` };
   }
   const stable = scheme.dt <= vn.limit * (1 + REL);
+  const marginal = Math.abs(scheme.dt - vn.limit) <= MARGINAL_REL * vn.limit;
+  const marginalNote = marginal
+    ? `; dt is at the limit, which is marginal: |G| = 1 at θ = ${fmtTheta(vn.worstTheta)}, so that mode neither decays nor grows${model.n > 1 ? ' (or grows linearly, where two eigenvalues meet on the unit circle)' : ''}`
+    : '';
   return {
-    ...base, limit: vn.limit, stable, unconditional: false,
-    reason: `Von Neumann: |G(θ)| ≤ 1 for dt ≤ ${fmt(vn.limit)}, first exceeded at θ = ${fmtTheta(vn.worstTheta)}${growthNote}.`,
+    ...base, limit: vn.limit, stable, unconditional: false, marginal,
+    reason: `Von Neumann: |G(θ)| ≤ 1 for dt ≤ ${fmt(vn.limit)}, first exceeded at θ = ${fmtTheta(vn.worstTheta)}${growthNote}${marginalNote}.`,
   };
 }
 

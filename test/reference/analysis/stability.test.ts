@@ -187,6 +187,28 @@ u' = u + dt * v'
       close(r.limit, h / (c * Math.SQRT2), 1e-6 * h / c, `wave limit c = ${c}, h = ${h}`);
     }
   });
+
+  // numerics.md ("call equality marginal"): a dt exactly at the limit is stable and reported as marginal; at the
+  // wave limit G(π, π) has trace −2 and det 1, a double eigenvalue −1 (derivation above).
+  it('dt exactly at the limit is stable and called marginal; 10% below is not marginal', () => {
+    const at = (dt: number) => analyseStability(scheme(`grid 2d
+spacing 1
+boundary reflect
+step dt = ${dt}
+steps 10
+field u = 0
+field v = 0
+v' = v + dt * sum n in N4: u[n] - u
+u' = u + dt * v'
+`));
+    const r = at(Math.SQRT1_2);
+    expect(r.stable).toBe(true);
+    expect(r.marginal).toBe(true);
+    expect(r.reason).toMatch(/marginal/);
+    expect(at(0.9 * Math.SQRT1_2).marginal).toBe(false);
+    const h = analyseStability(scheme(heat2d(1, 0.25)));
+    expect(h.stable && h.marginal, 'heat at r = 1/4: stable and marginal').toBe(true);
+  });
 });
 
 describe('edge-preserving diffusion (positivity)', () => {
