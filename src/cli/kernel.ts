@@ -225,6 +225,7 @@ export function kernelMain(argv: string[]): Promise<number> {
     const x = Number(atMatch[1]);
     const y = atMatch[2] === undefined ? 0 : Number(atMatch[2]);
     if (scheme.dims === 1 && y !== 0) throw new UsageError(`--at: a 1d scheme has one row; give --at X (or X,0), got '${o.at}'.`);
+    if (scheme.dims === 2 && atMatch[2] === undefined) throw new UsageError(`--at: a 2d scheme needs both coordinates, --at X,Y, got '${o.at}'.`);
 
     // The picture, as `fluxel run` takes it: a file, a named scene (its noisy version), or the survey scene.
     let image: RunImage | null = null;

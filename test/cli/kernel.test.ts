@@ -178,6 +178,9 @@ describe('fluxel kernel errors', () => {
     expect(r.code).toBe(2);
     expect(r.stderr).toMatch(/--at takes X,Y/);
     expect(fluxel('kernel', 'examples/heat-1d.fluxel', '--at', '3,4').code).toBe(2);
+    const one = fluxel('kernel', 'examples/heat-2d.fluxel', '--at', '3');
+    expect(one.code).toBe(2);
+    expect(one.stderr).toMatch(/needs both coordinates/);
   });
 
   it('a scheme with errors exits 1 with file:line:col diagnostics', () => {
