@@ -110,8 +110,9 @@ export function renderHeatmap(spec: HeatmapSpec): Canvas {
     }
   }
 
-  // X ticks and labels.
-  for (const i of tickIndices(cols)) {
+  // X ticks and labels, thinned so the widest label still has room between its neighbours.
+  const widest = Math.max(...spec.xValues.map((v) => textWidth(formatTick(v), S)));
+  for (const i of tickIndices(cols, Math.max(2, Math.min(8, Math.floor(plotW / (widest + 14)))))) {
     const x = colCentre(i);
     fillRect(c, x, top + plotH + 1, 1, 6, INK);
     const t = formatTick(spec.xValues[i]);
@@ -134,7 +135,7 @@ export function renderHeatmap(spec: HeatmapSpec): Canvas {
 
   // Title, shrunk to scale 1 if it would not fit.
   const titleScale = textWidth(spec.title, S) <= width - 20 ? S : 1;
-  drawText(c, spec.title, Math.max(10, Math.floor((width - textWidth(spec.title, titleScale)) / 2)), 22, titleScale, INK);
+  drawText(c, spec.title, Math.max(10, Math.floor((width - textWidth(spec.title, titleScale)) / 2)), 10, titleScale, INK);
 
   // Colour bar: bottom = minimum, top = maximum, five labelled ticks.
   const barX = left + plotW + 34, barW = 26;
@@ -154,7 +155,7 @@ export function renderHeatmap(spec: HeatmapSpec): Canvas {
     drawText(c, t, barX + barW + 9, y - Math.floor((GLYPH_H * S) / 2), S, INK);
   }
   const bl = spec.barLabel;
-  drawText(c, bl, Math.min(width - 4 - textWidth(bl, S), barX + Math.floor(barW / 2) - Math.floor(textWidth(bl, S) / 2)), top - 24, S, INK);
+  drawText(c, bl, Math.min(width - 4 - textWidth(bl, S), barX + Math.floor(barW / 2) - Math.floor(textWidth(bl, S) / 2)), top - 30, S, INK);
   return c;
 }
 
