@@ -31,7 +31,7 @@ for (const dtype of ['float32', 'float64'] as const) {
     beforeAll(() => {
       for (const c of cases) engine.set(c.file, engineResult(c));
       python = pythonResults(cases, join(dir, `py-${dtype}`), 'threads');
-    });
+    }, 900_000);
 
     it('covers every example', () => {
       expect(cases.length).toBeGreaterThanOrEqual(8);

@@ -31,7 +31,7 @@ export interface Case {
 /** Chaotic or undamped schemes are compared over at most 20 steps (numerics.md, "Float32 semantics"). */
 const SHORT_HORIZON = new Set(['gray-scott.fluxel', 'wave.fluxel']);
 
-export function makeCase(file: string, dtype: DType, width = 64, height = 48): Case {
+export function makeCase(file: string, dtype: DType, maxSteps = Infinity, width = 64, height = 48): Case {
   const text = readFileSync(join(ROOT, 'examples', file), 'utf8');
   const r = parseAndCheck(text);
   if (!r.scheme) throw new Error(`${file} has errors`);
@@ -45,7 +45,7 @@ export function makeCase(file: string, dtype: DType, width = 64, height = 48): C
     img = img.slice(row * width, (row + 1) * width);
     height = 1;
   }
-  const steps = SHORT_HORIZON.has(file) ? Math.min(20, scheme.steps) : scheme.steps;
+  const steps = Math.min(maxSteps, SHORT_HORIZON.has(file) ? Math.min(20, scheme.steps) : scheme.steps);
   return { file, text, scheme, width, height, steps, dtype, inputs: scheme.fields.map(f => (f.init.kind === 'image' ? img : null)) };
 }
 

@@ -42,7 +42,8 @@ def main():
         for k, f in enumerate(job['inputs']):
             if f is not None:
                 dstart[k] = da.from_array(start[k], chunks=tuple(job['chunks']))
-        lazy = dkm.dask_run(*dstart, steps=job['steps'])
+        # Persisting every 10 steps keeps the graph short (its cost grows faster than linearly with the chain length).
+        lazy = dkm.dask_run(*dstart, steps=job['steps'], persist_every=10)
         if client is not None:
             res = client.compute(list(lazy), sync=True)
         else:
