@@ -68,6 +68,15 @@ interface Plan {
   readonly twoD: boolean;
 }
 
+interface Prepared {
+  readonly fns: ((...a: number[]) => void)[];
+  readonly bufs: BufId[][];
+  readonly module: WasmModule;
+  readonly names: string[];
+  /** Identifies module and memory for the helper thread, which keeps one instance at a time. */
+  readonly key: string;
+}
+
 class WasmCompiled implements CompiledScheme {
   private threadsUsed = 1;
   private readonly modules = new Map<string, { module: WasmModule; names: string[]; bufs: BufId[][] }>();
@@ -109,7 +118,18 @@ class WasmCompiled implements CompiledScheme {
     return a;
   }
 
-  private instance(arena: Arena, g: Geometry): { fns: ((...a: number[]) => void)[]; bufs: BufId[][]; module: WasmModule; names: string[]; key: string } {
+  /** The last instance handed out: every step of a run asks for the same one. */
+  private last: { arena: Arena; g: Geometry; inst: Prepared } | null = null;
+
+  private instance(arena: Arena, g: Geometry): Prepared {
+    const l = this.last;
+    if (l && l.arena === arena && l.g === g) return l.inst;
+    const inst = this.prepare(arena, g);
+    this.last = { arena, g, inst };
+    return inst;
+  }
+
+  private prepare(arena: Arena, g: Geometry): Prepared {
     const key = `${g.pw},${g.haloX},${g.haloY}`;
     let m = this.modules.get(key);
     if (!m) {

@@ -53,6 +53,8 @@ const F64_LANES = {
 };
 
 const VOID = 0x40;
+/** Vectors per loop iteration in the body of a row. */
+const UNROLL = 2;
 
 /** Throws Unsupported for per-pixel operations without a vector form (they run on the JavaScript backend). */
 export function checkVectorisable(kg: KernelGraph, dtype: DType): void {
@@ -189,6 +191,8 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   const yv = usesY ? fb.local(V128) : -1;
   const tmp: number[] = [];
   const done = new Set<number>();
+  /** Which unrolled copy is being emitted: copy c works on the vector c·L pixels to the right. */
+  let copy = 0;
 
   const emit = (id: number): void => {
     const n = nodes[id];
@@ -201,12 +205,12 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
     switch (n.op) {
       case 'load': {
         const b = n.buf as { kind: 'c' | 'l'; index: number };
-        const imm = (((n.dy ?? 0) + geo.hy) * geo.pw + (n.dx ?? 0) + geo.hx) * bytes;
+        const imm = (((n.dy ?? 0) + geo.hy) * geo.pw + (n.dx ?? 0) + geo.hx + copy * L) * bytes;
         fb.get(addr[bufIndex.get(b.kind + b.index) as number]).mem(Simd.load, align, imm, true);
         break;
       }
       case 'x':
-        fb.get(x).simd(Simd.i32x4Splat).v128c(f32 ? [0, 1, 2, 3] : [0, 1, 0, 0], 'i32').simd(Simd.i32x4Add);
+        fb.get(x).simd(Simd.i32x4Splat).v128c((f32 ? [0, 1, 2, 3] : [0, 1, 0, 0]).map(v => v + copy * L), 'i32').simd(Simd.i32x4Add);
         fb.simd(f32 ? Simd.f32x4ConvertI32x4S : Simd.f64x2ConvertLowI32x4S);
         break;
       case 'y': fb.get(yv); break;
@@ -234,7 +238,7 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
       default: throw new Unsupported(`${n.op}()`, n.line);
     }
     if ((uses.get(id) ?? 0) > 1) {
-      const l = fb.local(V128);
+      const l = vLocal.get(id) ?? fb.local(V128);
       fb.tee(l);
       vLocal.set(id, l);
       done.add(id);
@@ -287,29 +291,47 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
     fb.get(y).simd(Simd.i32x4Splat).simd(f32 ? Simd.f32x4ConvertI32x4S : Simd.f64x2ConvertLowI32x4S).set(yv);
   }
   fb.get(X0).set(x);
-  fb.op(Op.loop, VOID);
-  fb.get(y).i32c(geo.pw).op(Op.i32Mul).get(x).op(Op.i32Add).i32c(shift).op(Op.i32Shl).set(rel);
-  bufs.forEach((_, k) => fb.get(k).get(rel).op(Op.i32Add).set(addr[k]));
-  kg.stores.forEach((s, k) => {
-    emit(s.node);
-    fb.set(sv);
-    fb.get(addr[storeBufs[k]]).get(sv).mem(Simd.store, align, (geo.hy * geo.pw + geo.hx) * bytes, true);
-    if (monitors) {
-      // pmin/pmax are single instructions (min/max with NaN propagation are long sequences, and they sit on the
-      // loop-carried chain); NaN is tracked on its own lane mask instead.
-      fb.get(mn[k]).get(sv).simd(T.pmin).set(mn[k]);
-      fb.get(mx[k]).get(sv).simd(T.pmax).set(mx[k]);
-      fb.get(nan[k]).get(sv).get(sv).simd(T.ne).simd(Simd.or).set(nan[k]);
+  const pixels = (copies: number): void => {
+    fb.get(y).i32c(geo.pw).op(Op.i32Mul).get(x).op(Op.i32Add).i32c(shift).op(Op.i32Shl).set(rel);
+    bufs.forEach((_, k) => fb.get(k).get(rel).op(Op.i32Add).set(addr[k]));
+    for (copy = 0; copy < copies; copy++) {
+      done.clear();
+      kg.stores.forEach((s, k) => {
+        emit(s.node);
+        fb.set(sv);
+        fb.get(addr[storeBufs[k]]).get(sv).mem(Simd.store, align, (geo.hy * geo.pw + geo.hx + copy * L) * bytes, true);
+        if (monitors) {
+          // pmin/pmax are single instructions (min/max with NaN propagation are long sequences, and they sit on the
+          // loop-carried chain); NaN is tracked on its own lane mask instead.
+          fb.get(mn[k]).get(sv).simd(T.pmin).set(mn[k]);
+          fb.get(mx[k]).get(sv).simd(T.pmax).set(mx[k]);
+          fb.get(nan[k]).get(sv).get(sv).simd(T.ne).simd(Simd.or).set(nan[k]);
+        }
+      });
     }
-  });
-  // Advance: stop after the vector that ends the row, else step by L but never past x1 - L.
+    copy = 0;
+  };
+  // Two vectors per iteration while they fit (less loop and address work per pixel)...
+  fb.op(Op.block, VOID, Op.loop, VOID);
+  fb.get(x).get(xlast).i32c((UNROLL - 1) * L).op(Op.i32Sub, Op.i32GtS, Op.brIf).code.u32(1);
+  pixels(UNROLL);
+  fb.get(x).i32c(UNROLL * L).op(Op.i32Add).set(x);
+  fb.op(Op.br).code.u32(0);
+  fb.op(Op.end, Op.end);
+  // ...then at most two more single vectors, the last one ending at the row's end (it may overlap the one before).
   fb.op(Op.block, VOID);
-  fb.get(x).get(xlast).op(Op.i32GeS, Op.brIf).code.u32(0);
+  fb.get(x).get(X1).op(Op.i32GeS, Op.brIf).code.u32(0);
+  fb.get(x).get(xlast).op(Op.i32GtS, Op.if, VOID);
+  fb.get(xlast).set(x);
+  fb.op(Op.end);
+  fb.op(Op.loop, VOID);
+  pixels(1);
+  fb.get(x).get(xlast).op(Op.i32GeS, Op.brIf).code.u32(1);
   fb.get(x).i32c(L).op(Op.i32Add).tee(x).get(xlast).op(Op.i32GtS, Op.if, VOID);
   fb.get(xlast).set(x);
-  fb.op(Op.end, Op.br).code.u32(1);
-  fb.op(Op.end);
-  fb.op(Op.end); // columns loop
+  fb.op(Op.end, Op.br).code.u32(0);
+  fb.op(Op.end); // tail loop
+  fb.op(Op.end); // tail block
   fb.get(y).i32c(1).op(Op.i32Add).tee(y).get(Y1).op(Op.i32LtS, Op.brIf).code.u32(0);
   fb.op(Op.end); // rows loop
   fb.op(Op.end); // block: an empty band still reports its (empty) monitors
