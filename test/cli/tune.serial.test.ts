@@ -69,6 +69,13 @@ describe('fluxel sweep', () => {
     expect(existsSync(join(dir, 'two2/sweep.png'))).toBe(true);
   });
 
+  it('on a terminal draws a progress bar of settings (script(1) gives the child a pseudo-terminal)', () => {
+    const cmd = `${process.execPath} ${CLI} sweep ${EP} ${common.join(' ')} --vary K=0.02:0.2:3 --workers 2 --out tty`;
+    const r = spawnSync('script', ['-qec', cmd, '/dev/null'], { cwd: dir, encoding: 'utf8' });
+    expect(r.status, r.stderr).toBe(0);
+    expect(r.stdout).toMatch(/fluxel sweep \[[^\]]*\] 3\/3 settings/);
+  });
+
   it('refuses out-of-range values, a missing scene and SSIM on tiny scenes with one clear line', () => {
     const r = fluxel('sweep', EP, ...common, '--vary', 'K=0.001:0.2:4');
     expect(r.code).toBe(2);
