@@ -16,8 +16,11 @@ require(require('worker_threads').workerData.bundle).fluxelAnalysisWorker();
 interface Job {
   readonly key: string;
   readonly text: string;
-  readonly resolve: (r: AnalysisResult | 'stale') => void;
+  readonly resolve: (r: ThreadedResult | 'stale') => void;
 }
+
+/** A result and the thread that computed it ('host' only when the worker could not run). */
+export type ThreadedResult = AnalysisResult & { readonly thread: 'worker' | 'host' };
 
 export interface AnalysisClientOptions {
   /** The bundled extension file that exports `fluxelAnalysisWorker`; null runs the analysis in-process (tests, sources). */
@@ -40,7 +43,7 @@ export class AnalysisClient {
   constructor(private readonly opts: AnalysisClientOptions) {}
 
   /** Analyses `text` for document `key`; resolves 'stale' when a newer text for the same key superseded it. */
-  analyse(key: string, text: string): Promise<AnalysisResult | 'stale'> {
+  analyse(key: string, text: string): Promise<ThreadedResult | 'stale'> {
     return new Promise((resolve) => {
       this.queue.get(key)?.resolve('stale');
       this.queue.set(key, { key, text, resolve });
@@ -72,7 +75,7 @@ export class AnalysisClient {
     if (!w) {
       void this.opts.inProcess().then((fn) => {
         // Yield once so a burst of edits collapses before the in-process run blocks.
-        setImmediate(() => this.finish(id, fn(job.text)));
+        setImmediate(() => this.finish(id, { ...fn(job.text), thread: 'host' }));
       });
       return;
     }
@@ -80,7 +83,7 @@ export class AnalysisClient {
     w.postMessage(req);
   }
 
-  private finish(id: number, r: AnalysisResult): void {
+  private finish(id: number, r: ThreadedResult): void {
     const run = this.running;
     if (!run || run.id !== id) return;
     this.running = null;
@@ -94,7 +97,7 @@ export class AnalysisClient {
     if (!this.opts.bundle || this.workerBroken) return null;
     try {
       const w = new Worker(BOOT, { eval: true, workerData: { bundle: this.opts.bundle } });
-      w.on('message', (m: AnalysisResponse) => this.finish(m.id, m));
+      w.on('message', (m: AnalysisResponse) => this.finish(m.id, { ...m, thread: 'worker' }));
       w.on('error', (err) => {
         this.opts.log?.(`analysis worker failed: ${err instanceof Error ? err.message : String(err)}; analysing in the host from now on`);
         this.workerBroken = true;

@@ -49,6 +49,9 @@ export class DiagnosticManager extends Disposable {
     for (const d of vscode.workspace.textDocuments) this.schedule(d, true);
   }
 
+  /** Where the last analysis ran: 'worker' normally, 'host' only if the worker thread could not start. */
+  lastThread: 'worker' | 'host' | null = null;
+
   /** The state of the document at its current version, or undefined if not checked yet. */
   stateFor(doc: vscode.TextDocument): SchemeState | undefined {
     const s = this.states.get(doc.uri.toString());
@@ -96,7 +99,8 @@ export class DiagnosticManager extends Disposable {
     const r = await this.analysis.analyse(key, text);
     if (r === 'stale' || !current() || doc.version !== version) return;
     if (r.error) this.log(`stability analysis failed: ${r.error}`);
-    else this.log(`analysed ${vscode.workspace.asRelativePath(doc.uri)} v${version} in ${r.ms.toFixed(1)} ms (worker)`);
+    else this.log(`analysed ${vscode.workspace.asRelativePath(doc.uri)} v${version} in ${r.ms.toFixed(1)} ms (${r.thread === 'worker' ? 'analysis worker' : 'extension host'})`);
+    this.lastThread = r.thread;
     this.publish({ uri: doc.uri, version, text, checked, report: r.report, analysis: 'done', diagnostics: [...checked.diagnostics, ...r.diagnostics] });
   }
 

@@ -20,6 +20,8 @@ export interface FluxelApi {
   readonly activationMs: number;
   /** Milliseconds until the parser, checker and analysis had loaded, or null before their first use. */
   coreLoadMs(): number | null;
+  /** Where the last stability analysis ran ('worker' unless the worker thread could not start). */
+  analysisThread(): 'worker' | 'host' | null;
 }
 
 let corePromise: Promise<Core> | null = null;
@@ -62,7 +64,7 @@ export function activate(context: vscode.ExtensionContext): FluxelApi {
   );
   const activationMs = performance.now() - t0;
   log(`activated in ${activationMs.toFixed(1)} ms (host time in activate)`);
-  return { activationMs, coreLoadMs: () => coreMs };
+  return { activationMs, coreLoadMs: () => coreMs, analysisThread: () => manager.lastThread };
 }
 
 export function deactivate(): void {

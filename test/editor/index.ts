@@ -47,11 +47,12 @@ const HEAT = (dt: string): string => [
 
 test('the extension activates on opening a scheme and reports its activation time', async () => {
   await writeScheme('heat-check.fluxel', HEAT('0.2'));
-  const ext = vscode.extensions.getExtension<{ activationMs: number; coreLoadMs(): number | null }>(EXTENSION_ID);
+  const ext = vscode.extensions.getExtension<{ activationMs: number; coreLoadMs(): number | null; analysisThread(): string | null }>(EXTENSION_ID);
   assert.ok(ext, 'the packaged extension is installed');
   const api = await poll('activation', () => ext.isActive && ext.exports);
   assert.equal(typeof api.activationMs, 'number');
   await poll('the first check', () => api.coreLoadMs() !== null);
+  assert.equal(await poll('the first analysis', () => api.analysisThread()), 'worker', 'the stability analysis runs in its worker thread, off the host');
   info(`activation (our clock): ${api.activationMs.toFixed(1)} ms in activate(); parser/checker/analysis loaded afterwards in ${api.coreLoadMs()!.toFixed(1)} ms`);
   // The editor's own measurement, as "Developer: Show Running Extensions" shows it.
   await vscode.commands.executeCommand('workbench.action.showRuntimeExtensions');

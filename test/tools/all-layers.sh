@@ -54,6 +54,11 @@ layer unit test/unit test/architecture
 layer reference test/reference
 layer cli test/cli
 
+# The real-editor layer: Chromium, Node 24 and code-server installed into a cache folder outside the tree
+# (test/tools/editor-install.sh), the .vsix packaged with vsce, the suite run in code-server; prints "editor: N passed, N failed".
+say "layer: editor"
+bash test/tools/editor-test.sh || status=1
+
 say "summary"
 if [ $status -eq 0 ]; then echo "all layers passed"; else echo "some layers FAILED"; fi
 exit $status

@@ -17,6 +17,7 @@ describe('AnalysisClient (in-process)', () => {
     expect(r2 !== 'stale' && r2.report?.stable).toBe(false);
     expect(r2 !== 'stale' && r2.diagnostics.map((d) => d.code)).toEqual(['step-over-limit']);
     expect(r3 !== 'stale' && r3.report?.dt).toBe(0.2);
+    expect(r3 !== 'stale' && r3.thread).toBe('host');
     client.dispose();
   });
 
