@@ -86,7 +86,9 @@ for (const [mode, label, key] of [['now', 'now', 'n'], ['start', 'start', 's'], 
   viewBar.append(b);
 }
 viewBar.append(button('fit', 'fit the picture (key 0)', () => { fitView(); draw(); }));
-const legendEl = h('div', { class: 'legend', 'aria-hidden': 'true' });
+const legendSwatch = h('span', { class: 'swatch' });
+const legendText = h('span');
+const legendEl = h('div', { class: 'legend', 'aria-hidden': 'true' }, legendSwatch, legendText);
 const stage = h('div', { class: 'stage' }, canvas);
 const left = h('section', { class: 'left', 'aria-label': 'picture' }, viewBar, stage, h('div', { class: 'under' }, readout, legendEl));
 
@@ -154,6 +156,8 @@ let verdict: ToPreview.Verdict | null = null;
 let weights: ToPreview.Weights | null = null;
 let profile: ToPreview.Profile | null = null;
 let restoredKnobs = state.knobs;
+/** After a reload the page goes back to the remembered step once its frame arrives, instead of following. */
+let restoreStep = state.step;
 const off = document.createElement('canvas');
 let diverging = divergingTable(isDark());
 
@@ -165,6 +169,7 @@ function isDark(): boolean {
 
 function setView(mode: ViewMode): void {
   save({ view: mode });
+  document.body.dataset.view = mode;
   for (const [m, b] of viewButtons) b.setAttribute('aria-pressed', String(m === mode));
   updateLegend();
   draw();
@@ -172,17 +177,16 @@ function setView(mode: ViewMode): void {
 
 function updateLegend(): void {
   if (state.view !== 'change') {
-    legendEl.textContent = `grey ${fmt(win.lo, 3)} … ${fmt(win.hi, 3)}`;
-    legendEl.style.backgroundImage = '';
+    legendText.textContent = `grey ${fmt(win.lo, 3)} … ${fmt(win.hi, 3)}`;
+    legendSwatch.style.backgroundImage = 'linear-gradient(to right, #000, #fff)';
     return;
   }
   const f = store.frames[current];
   const s = f && store.frames[0] ? changeScale(f.data, store.frames[0].data) : 0;
   const neg = labToRgb(NEGATIVE_END);
   const pos = labToRgb(POSITIVE_END);
-  legendEl.textContent = `change −${fmt(s, 3)} … 0 … +${fmt(s, 3)}`;
-  legendEl.style.backgroundImage = `linear-gradient(to right, rgb(${neg.join(',')}), ${divergingCss(diverging, 0, 1)}, rgb(${pos.join(',')}))`;
-  legendEl.style.color = luminance(labToRgb([70, 0, 0])) > 0.3 && !isDark() ? '#000' : '';
+  legendText.textContent = `change −${fmt(s, 3)} … 0 … +${fmt(s, 3)}`;
+  legendSwatch.style.backgroundImage = `linear-gradient(to right, rgb(${neg.join(',')}), ${divergingCss(diverging, 0, 1)}, rgb(${pos.join(',')}))`;
 }
 
 function canvasSize(): { w: number; hgt: number } {
@@ -202,7 +206,7 @@ function fitView(): void {
 function spaceTimeRows(): number {
   const s = store.started;
   if (!s) return 1;
-  return s.height === 1 ? Math.max(1, store.frames.length) : s.frameHeight;
+  return s.height === 1 ? Math.ceil(s.steps / Math.max(1, s.every)) + 1 : s.frameHeight;
 }
 
 function draw(): void {
@@ -358,6 +362,7 @@ function showIndex(i: number, byUser = true): void {
   stepEl.textContent = s ? stepLabel(f.step, s.steps, f.t) : '';
   scrub.setAttribute('aria-valuetext', stepEl.textContent);
   save({ step: f.step });
+  document.body.dataset.step = String(f.step);
   if (state.view === 'change') updateLegend();
   draw();
   scheduleCharts();
@@ -417,7 +422,15 @@ function knobRow(spec: KnobSpec, value: number, limit: number | null, onChange: 
     slider.value = String(sliderFromValue(spec, v));
     send(v);
   });
+  if (spec.name === 'dt') dtHint = { el: hint, span: `${fmt(span.lo)} … ${fmt(span.hi)}` };
   return h('div', { class: 'knob' }, h('label', { for: id, text: spec.name }), slider, num, hint);
+}
+
+/** The dt knob's range line; the limit in it follows the verdict without rebuilding the sliders (a drag goes on). */
+let dtHint: { el: HTMLElement; span: string } | null = null;
+function updateDtHint(): void {
+  const limit = verdict?.verdict.limit ?? null;
+  if (dtHint) dtHint.el.textContent = `${dtHint.span}${limit !== null ? ` · limit ${fmt(limit)}` : ''}`;
 }
 
 function renderKnobs(): void {
@@ -589,8 +602,25 @@ function renderCharts(): void {
 
 // ------------------------------------------------------------------------------------------------ messages
 
+/** Plain facts about what is shown, as data attributes (for people inspecting the page and for the editor tests). */
+function mark(): void {
+  const b = document.body.dataset;
+  b.runId = String(store.runId);
+  b.frames = String(store.frames.length);
+  b.step = String(store.frames[current]?.step ?? -1);
+  b.status = store.ended?.status ?? (store.started ? 'running' : 'idle');
+  b.findings = String(store.findings.length);
+  b.view = state.view;
+  b.weights = weights ? `${weights.x},${weights.y},${weights.step}` : '';
+}
+
 function onMessage(msg: ToPreview.Type): void {
   if (msg.source !== SOURCE) return;
+  handleMessage(msg);
+  mark();
+}
+
+function handleMessage(msg: ToPreview.Type): void {
   switch (msg.type) {
     case 'scheme': {
       scheme = msg;
@@ -619,7 +649,7 @@ function onMessage(msg: ToPreview.Type): void {
       const newRun = msg.runId !== store.runId;
       store.begin(msg);
       if (newRun) {
-        follow = true;
+        follow = restoreStep < 0;
         weights = null;
       }
       fieldSel.value = msg.field;
@@ -636,7 +666,10 @@ function onMessage(msg: ToPreview.Type): void {
         if (!transform) fitView();
       }
       scrub.max = String(store.last);
-      if (follow || (state.step >= 0 && msg.step === state.step)) showIndex(i, false);
+      if (restoreStep >= 0 && msg.step === restoreStep) {
+        restoreStep = -1;
+        showIndex(i, false);
+      } else if (follow) showIndex(i, false);
       else scheduleCharts();
       return;
     }
@@ -646,7 +679,14 @@ function onMessage(msg: ToPreview.Type): void {
     case 'runEnded':
       if (msg.runId !== store.runId) return;
       store.ended = msg;
+      restoreStep = -1;
       if (msg.status === 'blow-up') verdictEl.dataset.tone = 'error';
+      // The picked pixel keeps its weights and row current across reruns (knobs, edits, input).
+      if (state.picked && !weights && store.frames[current]) {
+        const step = store.frames[current].step;
+        post({ type: 'pickPixel', runId: store.runId, step, x: state.picked.x, y: state.picked.y });
+        post({ type: 'requestProfile', runId: store.runId, step, row: state.row ?? state.picked.y });
+      }
       if (msg.status === 'failed') showNotice(`The run failed: ${msg.message ?? 'unknown error'}`, 'error');
       renderFindings();
       scheduleCharts();
@@ -655,7 +695,7 @@ function onMessage(msg: ToPreview.Type): void {
       if (msg.runId !== store.runId) return;
       verdict = msg;
       renderVerdict();
-      renderKnobs();
+      updateDtHint();
       return;
     case 'problems':
       if (msg.first) {

@@ -69,7 +69,7 @@ async function main(): Promise<void> {
   const gcObserver = new PerformanceObserver((list) => {
     for (const e of list.getEntries()) {
       gcPauses.push(e.duration);
-      const kind = (e.detail as { kind?: number } | undefined)?.kind ?? 0;
+      const kind = ((e as unknown as { detail?: { kind?: number } }).detail)?.kind ?? 0;
       gcKinds.set(kind, Math.max(gcKinds.get(kind) ?? 0, e.duration));
     }
   });

@@ -12,6 +12,7 @@ import { homedir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { chromium } from 'playwright-core';
 import { PNG } from 'pngjs';
+import { liveRunProbe } from './preview-probe.mjs';
 
 const ROOT = resolve(import.meta.dirname, '../..');
 const arg = (name, dflt) => { const i = process.argv.indexOf(name); return i > 0 ? process.argv[i + 1] : dflt; };
@@ -137,6 +138,8 @@ async function handleProbe(kind, file, extra) {
       const row = rows.find((r) => r.text.includes(w));
       return row ? { text: row.text, titles: row.titles, others: rows.filter((r) => r !== row).map((r) => r.text) } : null;
     }, extra), `a list row with "${extra}"`);
+  } else if (kind === 'liverun') {
+    answer = await liveRunProbe(page, extra, OUT);
   } else throw new Error(`unknown probe ${kind}`);
   writeFileSync(file, JSON.stringify(answer));
 }

@@ -1,0 +1,100 @@
+// Real-editor tests of the live run panel: open an example and its live run, a frame that is not blank and differs
+// from the input, a knob that reruns, a finding of a scheme over its limit that moves the editor selection to the
+// update line, and screenshots in the dark and light themes checked for content. Browser facts come from the
+// driver's "liverun" probe (test/tools/preview-probe.mjs).
+//
+// The tests register one microtask after this module loads, so they run after the suite's other tests (which
+// look at the editor without a panel beside it); the last one closes the panel and restores the theme.
+
+import * as assert from 'node:assert/strict';
+import * as vscode from 'vscode';
+import { info, poll, probe, test } from './harness';
+
+function workspaceFile(name: string): vscode.Uri {
+  const folder = vscode.workspace.workspaceFolders?.[0];
+  assert.ok(folder, 'the test workspace is open');
+  return vscode.Uri.joinPath(folder.uri, name);
+}
+
+async function openWithLiveRun(name: string, text?: string): Promise<vscode.TextEditor> {
+  const uri = workspaceFile(name);
+  if (text !== undefined) await vscode.workspace.fs.writeFile(uri, Buffer.from(text, 'utf8'));
+  const editor = await vscode.window.showTextDocument(await vscode.workspace.openTextDocument(uri), { preview: false, viewColumn: vscode.ViewColumn.One });
+  const viewType = await vscode.commands.executeCommand<string>('fluxel.openLiveRunBeside', uri);
+  assert.equal(viewType, 'fluxel.liveRun', 'the command opened the live run panel');
+  return editor;
+}
+
+interface StateAnswer {
+  runId: string; frames: string; status: string; nowColours: number; startColours: number; changeColours: number; painted: number; meanAbsDiff: number;
+  canvas: { width: number; height: number };
+}
+
+function register(): void {
+  test('the live run shows a frame that is not blank and differs from the input', async () => {
+    await openWithLiveRun('edge-preserving.fluxel');
+    const s = await probe<StateAnswer>('liverun', JSON.stringify({ action: 'state', minFrames: 61, done: true }));
+    info(`live run: ${s.frames} frames, canvas ${s.canvas.width}×${s.canvas.height}, ${s.nowColours} colours now, ${s.startColours} at the start, mean |now − start| ${s.meanAbsDiff.toFixed(2)} per channel`);
+    assert.equal(s.status, 'done');
+    assert.ok(s.painted > 0.3, `the picture covers the canvas (${s.painted})`);
+    assert.ok(s.nowColours > 20, `the frame has many grey levels (${s.nowColours}), so it is not blank`);
+    assert.ok(s.meanAbsDiff > 0.5, `the last frame differs from the input (${s.meanAbsDiff})`);
+    assert.ok(s.changeColours > 5, `the change view is coloured (${s.changeColours})`);
+  });
+
+  test('moving a knob reruns the scheme and shows a new frame', async () => {
+    const k = await probe<{ before: { runId: string }; after: { runId: string; frames: string }; colours: number }>('liverun', JSON.stringify({ action: 'knob', name: 'K', position: 900 }));
+    assert.notEqual(k.after.runId, k.before.runId, 'a new run started');
+    assert.ok(Number(k.after.frames) >= 2, 'the new run posted frames');
+    assert.ok(k.colours > 20, 'the new frame is drawn');
+  });
+
+  test('clicking a finding of an unstable scheme selects its update line in the editor', async () => {
+    const text = [
+      '# Heat flow with dt over its limit (0.25): the live run reports new extrema.',
+      'grid 2d',
+      'spacing 1',
+      'boundary reflect',
+      'step dt = 0.3 in [0.02, 0.3]',
+      'steps 30',
+      '',
+      'field u = image',
+      '',
+      "u' = u + dt / h^2 * sum n in N4: u[n] - u",
+      '',
+    ].join('\n');
+    const editor = await openWithLiveRun('heat-unstable.fluxel', text);
+    // Put the cursor somewhere else first, so the move is the finding's doing.
+    editor.selection = new vscode.Selection(1, 0, 1, 0);
+    const f = await probe<{ text: string; step: string; weights: string }>('liverun', JSON.stringify({ action: 'finding' }));
+    info(`finding: ${f.text}; scrubber at step ${f.step}; weights at ${f.weights}`);
+    const sel = await poll('the selection on the update line', () => {
+      const e = vscode.window.activeTextEditor;
+      return e && e.document.uri.toString() === editor.document.uri.toString() && e.selection.start.line === 9 ? e.selection : null;
+    });
+    assert.ok(!sel.isEmpty, 'the range of the update is selected');
+    assert.match(f.text, /step \d+ at \(\d+, \d+\)/);
+    assert.ok(f.weights.length > 0, 'the finding pixel was picked and its weights arrived');
+  });
+
+  test('screenshots of the live run in the dark and light themes have content', async () => {
+    await openWithLiveRun('edge-preserving.fluxel');
+    const config = vscode.workspace.getConfiguration('workbench');
+    const before = config.get<string>('colorTheme');
+    try {
+      for (const [theme, name] of [['Default Dark Modern', 'live-run-dark'], ['Default Light Modern', 'live-run-light']] as const) {
+        await config.update('colorTheme', theme, vscode.ConfigurationTarget.Global);
+        await poll(`the ${theme} theme`, () => (theme.includes('Light') ? vscode.window.activeColorTheme.kind === vscode.ColorThemeKind.Light : vscode.window.activeColorTheme.kind === vscode.ColorThemeKind.Dark));
+        const shot = await probe<{ path: string; page: { colours: number }; panel: { colours: number; width: number } }>('liverun', JSON.stringify({ action: 'shot', name }));
+        info(`screenshot ${shot.path}: ${shot.page.colours} colours; the panel ${shot.panel.width} px wide with ${shot.panel.colours} colours`);
+        assert.ok(shot.panel.width > 200, 'the panel is visible beside the editor');
+        assert.ok(shot.panel.colours > 50, `the panel shows a picture and charts (${shot.panel.colours} colours)`);
+      }
+    } finally {
+      await config.update('colorTheme', before, vscode.ConfigurationTarget.Global);
+      await vscode.commands.executeCommand('workbench.action.closeAllEditors');
+    }
+  });
+}
+
+queueMicrotask(register);

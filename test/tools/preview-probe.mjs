@@ -1,0 +1,112 @@
+// Browser-side answers for the live run's real-editor tests (test/editor/preview.ts), called by the driver
+// (editor-test.mjs) for probes of kind "liverun": it finds the live run's page inside the webview frames, reads its
+// data attributes and canvas pixels, moves a knob, clicks a finding, and takes screenshots. Conditions are polled
+// under a generous hang guard; nothing here asserts, the suite does.
+import { join } from 'node:path';
+import { PNG } from 'pngjs';
+
+const GUARD_MS = 60000;
+
+async function pollFor(page, what, fn) {
+  const t0 = Date.now();
+  for (;;) {
+    const v = await fn().catch(() => null);
+    if (v) return v;
+    if (Date.now() - t0 > GUARD_MS) throw new Error(`gave up waiting for ${what}`);
+    await page.waitForTimeout(100);
+  }
+}
+
+/** The frame that holds the live run page (the inner document of the webview with the picture canvas). */
+async function liveRunFrame(page) {
+  return pollFor(page, 'the live run page', async () => {
+    for (const f of page.frames()) {
+      const ok = await f.evaluate(() => Boolean(document.body && document.body.dataset.source && document.querySelector('canvas.picture'))).catch(() => false);
+      if (ok) return f;
+    }
+    return null;
+  });
+}
+
+const facts = (f) => f.evaluate(() => ({ ...document.body.dataset }));
+
+/** Pixel statistics of the picture canvas: distinct colours (sampled) and the fraction of non-background pixels. */
+const canvasPixels = (f) => f.evaluate(() => {
+  const c = document.querySelector('canvas.picture');
+  const ctx = c.getContext('2d');
+  const { data } = ctx.getImageData(0, 0, c.width, c.height);
+  const colours = new Set();
+  let painted = 0;
+  for (let i = 0; i < data.length; i += 4) {
+    if (data[i + 3] > 0) painted++;
+    if (i % 12 === 0) colours.add((data[i] << 16) | (data[i + 1] << 8) | data[i + 2]);
+  }
+  return { width: c.width, height: c.height, colours: colours.size, painted: painted / (data.length / 4), data: Array.from(data.filter((_, i) => i % 4 !== 3 && i % 16 < 4)) };
+});
+
+function pngStats(buf) {
+  const png = PNG.sync.read(buf);
+  const colours = new Set();
+  for (let i = 0; i < png.data.length; i += 4 * 5) colours.add((png.data[i] << 16) | (png.data[i + 1] << 8) | png.data[i + 2]);
+  return { width: png.width, height: png.height, colours: colours.size };
+}
+
+export async function liveRunProbe(page, extra, outDir) {
+  const req = JSON.parse(extra || '{}');
+  const f = await liveRunFrame(page);
+  switch (req.action) {
+    case 'state': {
+      // Wait for a finished run (or at least `minFrames` frames), then compare the picture now with the start view.
+      const d = await pollFor(page, `a run with ${req.minFrames ?? 2} frames`, async () => {
+        const x = await facts(f);
+        return Number(x.frames) >= (req.minFrames ?? 2) && (!req.done || x.status === 'done') ? x : null;
+      });
+      const picture = f.locator('canvas.picture');
+      await picture.press('n');
+      const now = await canvasPixels(f);
+      await picture.press('s');
+      await pollFor(page, 'the start view', async () => (await facts(f)).view === 'start');
+      const start = await canvasPixels(f);
+      await picture.press('c');
+      const change = await canvasPixels(f);
+      await picture.press('n');
+      let diff = 0;
+      for (let i = 0; i < Math.min(now.data.length, start.data.length); i++) diff += Math.abs(now.data[i] - start.data[i]);
+      return {
+        ...d, canvas: { width: now.width, height: now.height }, nowColours: now.colours, startColours: start.colours, changeColours: change.colours,
+        painted: now.painted, meanAbsDiff: diff / Math.max(1, now.data.length),
+      };
+    }
+    case 'knob': {
+      const before = await facts(f);
+      await f.locator(`#knob-${req.name}`).fill(String(req.position));
+      const after = await pollFor(page, 'a new run after the knob moved', async () => {
+        const x = await facts(f);
+        return x.runId !== before.runId && Number(x.frames) >= 2 ? x : null;
+      });
+      const px = await canvasPixels(f);
+      return { before, after, colours: px.colours };
+    }
+    case 'finding': {
+      await pollFor(page, 'a finding', async () => Number((await facts(f)).findings) > 0);
+      const button = f.locator('button.finding').first();
+      const text = await button.innerText();
+      await button.click();
+      const d = await pollFor(page, 'the weights of the finding pixel', async () => {
+        const x = await facts(f);
+        return x.weights ? x : null;
+      });
+      return { text, ...d };
+    }
+    case 'shot': {
+      await pollFor(page, 'a finished run', async () => (await facts(f)).status === 'done');
+      const path = join(outDir, `${req.name}.png`);
+      const buf = await page.screenshot({ path });
+      const box = await page.locator('iframe.webview.ready').last().boundingBox();
+      const panel = box ? pngStats(await page.screenshot({ clip: box })) : { colours: 0, width: 0, height: 0 };
+      return { path, page: pngStats(buf), panel };
+    }
+    default:
+      throw new Error(`unknown live run probe ${req.action}`);
+  }
+}
