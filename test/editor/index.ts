@@ -6,6 +6,7 @@
 import * as assert from 'node:assert/strict';
 import * as vscode from 'vscode';
 import { info, poll, probe, runAll, test } from './harness';
+import './preview';
 
 const EXTENSION_ID = 'fluxel-dev.fluxel';
 
