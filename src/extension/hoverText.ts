@@ -85,7 +85,8 @@ function findInDecl(d: Decl, o: number, names: Names): Hit | null {
   if (!within(d.range, o)) return null;
   switch (d.kind) {
     case 'step':
-      return within(d.name.range, o) || o < d.name.range.start.offset ? { kind: 'step', range: d.name.range } : null;
+      // Anywhere on the step line: the keyword, the name, the value or its slider range.
+      return { kind: 'step', range: d.name.range };
     case 'param':
       return within(d.name.range, o) ? { kind: 'param', name: d.name.name, range: d.name.range } : null;
     case 'function': {

@@ -21,6 +21,8 @@ describe('hover', () => {
     expect(h.markdown).toMatch(/Von Neumann: .*first exceeded/);
     const text = HEAT('0.3');
     expect(text.slice(h.start, h.end)).toBe('dt');
+    expect(hoverAt(text, '0.3 in')!.markdown).toBe(h.markdown);
+    expect(hoverAt(text, 'step')!.markdown).toBe(h.markdown);
   });
 
   it('on dt inside an update shows the same, and says so while the analysis runs', () => {
