@@ -13,7 +13,7 @@ import {
   BUFFERS_AT, checkVectorisable, emitKernel, IMPORTS, MAX_FIELDS, MAX_PARAMS, MONITOR_AT, MONITOR_BYTES, PARAMS_AT, type BufId,
 } from './kernel';
 import { wasmApi, type WasmMemory, type WasmModule } from './wasmApi';
-import { coreCount, getHelper, startOnHelper, waitForHelper } from './threads';
+import { coreCount, getHelper, runShared } from './threads';
 
 /** Below this many pixels a second thread saves little (a step is a fraction of a millisecond, the barrier is not). */
 const THREAD_MIN_PIXELS = 512 * 512;
@@ -165,22 +165,18 @@ class WasmCompiled implements CompiledScheme {
     for (let k = 0; k < ctx.params.length; k++) f[p + 2 + k] = ctx.params[k];
   }
 
-  /** Runs function `fn` over rows [ya, yb), in two bands when the arena has two threads. */
-  private runBands(arena: Arena, g: Geometry, fn: number, bufArgs: number[], x0: number, x1: number, ya: number, yb: number): number {
+  /** Runs function `fn` over rows [ya, yb): in chunks shared with the helper thread when the arena has two threads. */
+  private runBands(arena: Arena, g: Geometry, fn: number, bufArgs: number[], x0: number, x1: number, ya: number, yb: number): void {
     const inst = this.instance(arena, g);
     const rows = yb - ya;
     const h = arena.threads > 1 && rows >= 8 ? getHelper() : null;
     if (!h) {
       inst.fns[fn](...bufArgs, x0, x1, ya, yb, MONITOR_AT);
-      return 1;
+      return;
     }
-    const mid = ya + (rows >> 1);
-    startOnHelper(h, inst.key, inst.module, arena.memory, inst.names, fn, [...bufArgs, x0, x1, mid, yb, MONITOR_AT + MONITOR_BYTES]);
-    inst.fns[fn](...bufArgs, x0, x1, ya, mid, MONITOR_AT);
-    if (!waitForHelper(h)) {
-      inst.fns[fn](...bufArgs, x0, x1, mid, yb, MONITOR_AT + MONITOR_BYTES);
-    }
-    return 2;
+    // About 16 chunks: enough for the two threads to even out, few enough that a call's set-up stays negligible.
+    const chunk = Math.max(4, Math.ceil(rows / 16));
+    runShared(h, inst.key, inst.module, arena.memory, inst.names, fn, inst.fns[fn], [...bufArgs, x0, x1], ya, yb, chunk, MONITOR_AT, MONITOR_AT + MONITOR_BYTES);
   }
 
   private bufArgs(bufs: readonly BufId[], ctx: KernelContext): number[] {
@@ -210,15 +206,19 @@ class WasmCompiled implements CompiledScheme {
     }
     this.writeRunValues(arena, ctx);
     const inst = this.instance(arena, g);
-    const threads = this.runBands(arena, g, 0, this.bufArgs(inst.bufs[0], ctx), 0, g.width, 0, g.height);
-    this.threadsUsed = threads;
     const f = arena.f64, M = ctx.monitor;
+    // Kernels merge their rows' min/max into the slots; each thread has its own.
     for (const s of this.plan.update.stores) {
-      let mn = f[(MONITOR_AT + 16 * s.field) / 8], mx = f[(MONITOR_AT + 16 * s.field + 8) / 8];
-      if (threads > 1) {
-        mn = Math.min(mn, f[(MONITOR_AT + MONITOR_BYTES + 16 * s.field) / 8]);
-        mx = Math.max(mx, f[(MONITOR_AT + MONITOR_BYTES + 16 * s.field + 8) / 8]);
+      for (let th = 0; th < 2; th++) {
+        f[(MONITOR_AT + th * MONITOR_BYTES + 16 * s.field) / 8] = Infinity;
+        f[(MONITOR_AT + th * MONITOR_BYTES + 16 * s.field + 8) / 8] = -Infinity;
       }
+    }
+    this.runBands(arena, g, 0, this.bufArgs(inst.bufs[0], ctx), 0, g.width, 0, g.height);
+    this.threadsUsed = arena.threads > 1 && g.height >= 8 ? 2 : 1;
+    for (const s of this.plan.update.stores) {
+      const mn = Math.min(f[(MONITOR_AT + 16 * s.field) / 8], f[(MONITOR_AT + MONITOR_BYTES + 16 * s.field) / 8]);
+      const mx = Math.max(f[(MONITOR_AT + 16 * s.field + 8) / 8], f[(MONITOR_AT + MONITOR_BYTES + 16 * s.field + 8) / 8]);
       M.min[s.field] = mn;
       M.max[s.field] = mx;
       M.bad[s.field] = (mn - mn) + (mx - mx);

@@ -335,7 +335,7 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   fb.get(y).i32c(1).op(Op.i32Add).tee(y).get(Y1).op(Op.i32LtS, Op.brIf).code.u32(0);
   fb.op(Op.end); // rows loop
   fb.op(Op.end); // block: an empty band still reports its (empty) monitors
-  // Monitors: reduce the lanes and store (min, max) as Float64 at the monitor address.
+  // Monitors: reduce the lanes and merge (min, max) as Float64 into the monitor slot.
   kg.stores.forEach((s, k) => {
     if (!monitors) return;
     for (const [v, off, red] of [[mn[k], 0, 'min'], [mx[k], 8, 'max']] as const) {
@@ -347,6 +347,8 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
       if (f32) fb.op(Op.f64PromoteF32);
       // A NaN anywhere makes both reported values NaN, as Math.min/max do in the JavaScript kernels.
       fb.f64c(NaN).get(nan[k]).simd(Simd.anyTrue).op(Op.i32Eqz, Op.select);
+      // Merged into what the slot holds: a thread runs several chunks of rows per step (the caller resets the slot).
+      fb.get(MON).mem(Op.f64Load, 3, s.field * 16 + off).op(red === 'min' ? Op.f64Min : Op.f64Max);
       fb.mem(Op.f64Store, 3, s.field * 16 + off);
     }
   });

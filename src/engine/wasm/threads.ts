@@ -1,18 +1,22 @@
-// The helper thread that runs the second band of rows of a SIMD kernel over the same shared WebAssembly.Memory.
+// The helper thread that shares the rows of a SIMD kernel over the same shared WebAssembly.Memory.
 // One per process, started on first use and never keeping the process alive; commands go through a small shared
-// mailbox (sequence number, function, arguments), so a step costs no message passing once the module is loaded.
+// mailbox (sequence number, job state, function, arguments, a chunk counter), so a step costs no message passing
+// once the module is loaded.
 // Loads node:worker_threads through process.getBuiltinModule, so this module imports nothing from Node itself and
 // simply finds no helper where there are no threads.
 
 import type { WasmMemory, WasmModule } from './wasmApi';
 
 /** Mailbox slots (Int32). */
-const SEQ = 0, ACK = 1, CFG = 2, FN = 3, NARGS = 4, ERROR = 5, STARTED = 6, ARGS = 8, SLOTS = 72;
+const SEQ = 0, STATE = 1, CFG = 2, FN = 3, NARGS = 4, ERROR = 5, CTR = 6, YA = 7, YB = 8, ROWS = 9, MON = 10, ARGS = 12, SLOTS = 80;
+/** Job states: the caller cancels a job the helper has not picked up by the time the caller ran out of chunks. */
+const PENDING = 1, RUNNING = 2, DONE = 3, CANCELLED = 4;
 
 /**
  * The helper's program, run with `eval`: no bundling or file lookup. It waits for a new sequence number (spinning
- * briefly first, since the next step usually follows within microseconds), loads a new module when the config
- * number changed, runs the function, and acknowledges.
+ * briefly first, since the next step usually follows within microseconds), claims the job unless it was cancelled,
+ * loads a new module when the config number changed, takes chunks of rows from the shared counter until none are
+ * left, and reports done.
  */
 const WORKER_SOURCE = `
 const { workerData, receiveMessageOnPort } = require('node:worker_threads');
@@ -20,11 +24,10 @@ const mail = new Int32Array(workerData.mail);
 const port = workerData.port;
 const math = { exp: Math.exp, log: Math.log, sin: Math.sin, cos: Math.cos, tanh: Math.tanh, sign: Math.sign, pow: Math.pow };
 let fns = [], cfg = 0, seen = 0;
-Atomics.store(mail, ${STARTED}, 1);
 for (;;) {
   let s = Atomics.load(mail, ${SEQ});
   if (s === seen) {
-    const until = performance.now() + 0.3;
+    const until = performance.now() + 0.1;
     while (s === seen && performance.now() < until) s = Atomics.load(mail, ${SEQ});
   }
   while (s === seen) {
@@ -32,6 +35,7 @@ for (;;) {
     s = Atomics.load(mail, ${SEQ});
   }
   seen = s;
+  if (Atomics.compareExchange(mail, ${STATE}, ${PENDING}, ${RUNNING}) !== ${PENDING}) continue;
   try {
     const c = Atomics.load(mail, ${CFG});
     if (c !== cfg) {
@@ -43,14 +47,16 @@ for (;;) {
       }
       cfg = c;
     }
-    const n = mail[${NARGS}], args = [];
+    const fn = fns[mail[${FN}]], n = mail[${NARGS}], args = [];
     for (let k = 0; k < n; k++) args.push(mail[${ARGS} + k]);
-    fns[mail[${FN}]](...args);
+    const ya = mail[${YA}], yb = mail[${YB}], rows = mail[${ROWS}], mon = mail[${MON}];
+    const chunks = Math.ceil((yb - ya) / rows);
+    for (let k; (k = Atomics.add(mail, ${CTR}, 1)) < chunks;) fn(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mon);
   } catch (e) {
     Atomics.store(mail, ${ERROR}, 1);
   }
-  Atomics.store(mail, ${ACK}, s);
-  Atomics.notify(mail, ${ACK});
+  Atomics.store(mail, ${STATE}, ${DONE});
+  Atomics.notify(mail, ${STATE});
 }
 `;
 
@@ -66,11 +72,15 @@ export interface Helper {
   holds: string | null;
   seq: number;
   cfg: number;
-  /** Set when the helper never started; the caller then runs every band itself. */
-  broken: boolean;
 }
 
 let helper: Helper | null | undefined;
+let forceHelper = false;
+
+/** For tests: make the helper run half of every kernel call (normally it takes what it can, possibly nothing). */
+export function forceHelperShare(on: boolean): void {
+  forceHelper = on;
+}
 
 function builtin<T>(name: string): T | null {
   const p = (globalThis as { process?: { getBuiltinModule?: (n: string) => unknown } }).process;
@@ -90,7 +100,7 @@ export function coreCount(): number {
 
 /** The process's helper thread, started on first call; null where worker threads are unavailable. */
 export function getHelper(): Helper | null {
-  if (helper !== undefined) return helper && !helper.broken ? helper : null;
+  if (helper !== undefined) return helper;
   helper = null;
   const wt = builtin<WorkerThreadsModule>('node:worker_threads');
   if (!wt || typeof SharedArrayBuffer === 'undefined') return null;
@@ -101,52 +111,60 @@ export function getHelper(): Helper | null {
     // Neither the thread nor its port may keep a finished CLI run (or a test process) alive.
     worker.unref();
     port1.unref?.();
-    helper = { mail, post: m => port1.postMessage(m), holds: null, seq: 0, cfg: 0, broken: false };
+    helper = { mail, post: m => port1.postMessage(m), holds: null, seq: 0, cfg: 0 };
   } catch {
     helper = null;
   }
   return helper;
 }
 
-/** Starts `fn` of the module (instantiated over `memory`) on the helper with int arguments; returns at once. */
-export function startOnHelper(h: Helper, key: string, module: WasmModule, memory: WasmMemory, names: readonly string[], fn: number, args: readonly number[]): void {
+/**
+ * Runs `call` (this thread's instance of function `fn`) over rows [ya, yb) in chunks shared with the helper through
+ * an atomic counter, so a helper that is late (a busy machine) costs nothing: the caller takes every chunk left and
+ * cancels the job if the helper has not claimed it. Each chunk computes exactly what one call over all rows would,
+ * so the result does not depend on who ran which chunk. Returns how many threads took part.
+ */
+export function runShared(
+  h: Helper, key: string, module: WasmModule, memory: WasmMemory, names: readonly string[], fn: number,
+  call: (...a: number[]) => void, args: readonly number[], ya: number, yb: number, rows: number, monMine: number, monHelper: number,
+): number {
+  const m = h.mail;
   if (args.length > SLOTS - ARGS) throw new Error('too many kernel arguments for the helper thread');
   if (h.holds !== key) {
     h.post({ module, memory, names });
     h.cfg++;
-    Atomics.store(h.mail, CFG, h.cfg);
+    Atomics.store(m, CFG, h.cfg);
     h.holds = key;
   }
-  h.mail[FN] = fn;
-  h.mail[NARGS] = args.length;
-  for (let k = 0; k < args.length; k++) h.mail[ARGS + k] = args[k];
+  m[FN] = fn;
+  m[NARGS] = args.length;
+  for (let k = 0; k < args.length; k++) m[ARGS + k] = args[k];
+  m[YA] = ya;
+  m[YB] = yb;
+  m[ROWS] = rows;
+  m[MON] = monHelper;
+  Atomics.store(m, CTR, 0);
+  Atomics.store(m, STATE, PENDING);
   h.seq++;
-  Atomics.store(h.mail, SEQ, h.seq);
-  Atomics.notify(h.mail, SEQ);
-}
-
-/**
- * Waits for the helper's acknowledgement: a short spin (a band of a step takes milliseconds), then sleeps.
- * Returns false when the helper never started within a few seconds (the caller then runs the band itself).
- */
-export function waitForHelper(h: Helper): boolean {
-  const m = h.mail;
-  const until = performance.now() + 0.3;
-  while (Atomics.load(m, ACK) !== h.seq && performance.now() < until) { /* spin */ }
-  let waited = 0;
-  for (;;) {
-    const ack = Atomics.load(m, ACK);
-    if (ack === h.seq) break;
-    Atomics.wait(m, ACK, ack, 100);
-    waited += 100;
-    if (waited >= 10000 && Atomics.load(m, STARTED) === 0) {
-      h.broken = true;
-      return false;
-    }
+  Atomics.store(m, SEQ, h.seq);
+  Atomics.notify(m, SEQ);
+  const chunks = Math.ceil((yb - ya) / rows);
+  if (forceHelper) {
+    // Test mode: this thread runs the first half itself and waits for the helper to run the rest.
+    const half = chunks >> 1;
+    Atomics.store(m, CTR, half);
+    for (let k = 0; k < half; k++) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), monMine);
+    while (Atomics.load(m, STATE) === PENDING) Atomics.wait(m, STATE, PENDING, 50);
   }
+  for (let k; (k = Atomics.add(m, CTR, 1)) < chunks;) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), monMine);
+  if (Atomics.compareExchange(m, STATE, PENDING, CANCELLED) === PENDING) return 1;
+  // The helper is on its last chunk: a short spin, then sleep until it reports.
+  const until = performance.now() + 0.2;
+  while (Atomics.load(m, STATE) === RUNNING && performance.now() < until) { /* spin */ }
+  while (Atomics.load(m, STATE) === RUNNING) Atomics.wait(m, STATE, RUNNING, 1000);
   if (Atomics.load(m, ERROR) !== 0) {
     Atomics.store(m, ERROR, 0);
     throw new Error('the helper thread failed to run a kernel');
   }
-  return true;
+  return 2;
 }

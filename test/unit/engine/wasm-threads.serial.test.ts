@@ -2,14 +2,19 @@
 // results must be bitwise equal (and the monitors' findings the same). Starts the helper thread, hence serial.
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createRun } from '../../../src/engine/run';
 import { WasmBackend } from '../../../src/engine/wasm/backend';
+import { forceHelperShare } from '../../../src/engine/wasm/threads';
 import { expectClose, randomImage, schemeOf } from './util';
 
 const one = new WasmBackend({ threads: 1 });
 const two = new WasmBackend({ threads: 2 });
 const example = (name: string) => readFileSync(join(__dirname, '../../../examples', `${name}.fluxel`), 'utf8');
+
+// Normally the helper takes whatever chunks of rows are left when it wakes (maybe none); here it must run half.
+beforeAll(() => forceHelperShare(true));
+afterAll(() => forceHelperShare(false));
 
 describe('two threads equal one, bitwise', () => {
   const cases: [string, string, number, number, number | undefined][] = [
