@@ -27,12 +27,19 @@ async function main(): Promise<void> {
   const base = (performance.now() - t0) / 1000;
   console.log(`  in-process, no pool:   ${base.toFixed(2)} s   (best PSNR ${best.toFixed(3)} dB)`);
 
+  // CPU seconds (all threads of this process) per wall second show how many cores the run really got:
+  // on a machine shared with other jobs the wall-clock speed-up alone can mislead.
   const times: Record<number, number> = {};
   for (const workers of [1, 2]) {
+    const c0 = process.cpuUsage();
     const r = await runSweep(problem, { axes, steps, metric: 'psnr', workers });
+    const c = process.cpuUsage(c0);
     times[workers] = r.seconds;
-    console.log(`  pool, ${workers} worker(s):     ${r.seconds.toFixed(2)} s   ratio to in-process ${(r.seconds / base).toFixed(2)}   (best PSNR ${r.curves[r.bestIndex].best.toFixed(3)} dB)`);
+    const cores = (c.user + c.system) / 1e6 / r.seconds;
+    console.log(`  pool, ${workers} worker(s):     ${r.seconds.toFixed(2)} s   ratio to in-process ${(r.seconds / base).toFixed(2)}   cores used ${cores.toFixed(2)}   (best PSNR ${r.curves[r.bestIndex].best.toFixed(3)} dB)`);
   }
+  const { loadavg } = await import('node:os');
+  console.log(`  load average while measuring: ${loadavg().map((v) => v.toFixed(1)).join(', ')} (on ${cpus().length} cores)`);
   console.log(`  speed-up 2 workers vs 1: ${(times[1] / times[2]).toFixed(2)}×`);
   console.log(`  target: 20-value sweep under 10 s — ${times[2] < 10 ? 'met' : 'NOT met'} (${times[2].toFixed(2)} s with 2 workers)`);
 
