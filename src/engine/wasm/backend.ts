@@ -10,7 +10,7 @@ import type { CompiledScheme, DType, FieldArray, Geometry, KernelBackend, Kernel
 import { encodeModule, type FnBody } from './emit';
 import { letGraph, Unsupported, updateGraph, type KernelGraph } from './ir';
 import {
-  BUFFERS_AT, checkVectorisable, emitKernel, IMPORTS, MAX_FIELDS, MAX_PARAMS, MONITOR_AT, MONITOR_BYTES, PARAMS_AT, type BufId,
+  BUFFERS_AT, checkVectorisable, emitKernel, IMPORTS, MAX_FIELDS, MAX_PARAMS, MONITOR_AT, MONITOR_BYTES, PARAMS_AT, rowFluxBytes, type BufId,
 } from './kernel';
 import { wasmApi, type WasmMemory, type WasmModule } from './wasmApi';
 import { coreCount, getHelper, runShared } from './threads';
@@ -22,6 +22,8 @@ const CACHE_LIMIT = 32;
 export interface WasmOptions {
   /** Threads per run: 1, 2, or 'auto' (2 on large images when the machine has two cores). */
   readonly threads?: 1 | 2 | 'auto';
+  /** Compute each face's flux once where the scheme allows (default); off only to check it changes nothing. */
+  readonly reuseFluxes?: boolean;
 }
 
 const MATH_IMPORTS = { exp: Math.exp, log: Math.log, sin: Math.sin, cos: Math.cos, tanh: Math.tanh, sign: Math.sign, pow: Math.pow };
@@ -31,12 +33,16 @@ class Arena {
   readonly memory: WasmMemory;
   readonly f64: Float64Array;
   private next: number;
+  /** Per thread: address of its row-flux scratch. */
+  readonly scratch: readonly number[];
   readonly instances = new Map<string, { module: WasmModule; names: string[]; fns: ((...a: number[]) => void)[] }>();
   constructor(readonly g: Geometry, readonly dtype: DType, count: number, readonly threads: number) {
     const bytes = dtype === 'float32' ? 4 : 8;
     const size = align16(g.pw * g.ph * bytes);
     this.next = align16(BUFFERS_AT + (g.haloY * g.pw + g.haloX) * bytes + 16);
-    const pages = Math.ceil((this.next + count * size + 64) / 65536);
+    // After the buffers: each thread's row of vertical fluxes (kernel.ts, reused fluxes).
+    this.scratch = [0, 1].map(k => this.next + count * size + k * rowFluxBytes(g.pw, dtype));
+    const pages = Math.ceil((this.next + count * size + 2 * rowFluxBytes(g.pw, dtype) + 64) / 65536);
     this.memory = new (api().Memory)({ initial: pages, maximum: pages, shared: true });
     this.f64 = new Float64Array(this.memory.buffer, 0, BUFFERS_AT / 8);
   }
@@ -165,18 +171,23 @@ class WasmCompiled implements CompiledScheme {
     for (let k = 0; k < ctx.params.length; k++) f[p + 2 + k] = ctx.params[k];
   }
 
-  /** Runs function `fn` over rows [ya, yb): in chunks shared with the helper thread when the arena has two threads. */
+  /**
+   * Runs function `fn` over rows [ya, yb) in about 16 chunks: shared with the helper thread when the arena has two
+   * threads, on this thread alone otherwise. The chunks are the same either way, so one thread and two give the
+   * same bits (a chunk's first row computes its vertical fluxes itself instead of taking them from the row above).
+   */
   private runBands(arena: Arena, g: Geometry, fn: number, bufArgs: number[], x0: number, x1: number, ya: number, yb: number): void {
     const inst = this.instance(arena, g);
     const rows = yb - ya;
+    const chunk = rows >= 8 ? Math.max(4, Math.ceil(rows / 16)) : rows;
     const h = arena.threads > 1 && rows >= 8 ? getHelper() : null;
+    const call = inst.fns[fn];
     if (!h) {
-      inst.fns[fn](...bufArgs, x0, x1, ya, yb, MONITOR_AT);
+      for (let y = ya; y < yb; y += chunk) call(...bufArgs, x0, x1, y, Math.min(yb, y + chunk), MONITOR_AT, arena.scratch[0]);
       return;
     }
-    // About 16 chunks: enough for the two threads to even out, few enough that a call's set-up stays negligible.
-    const chunk = Math.max(4, Math.ceil(rows / 16));
-    runShared(h, inst.key, inst.module, arena.memory, inst.names, fn, inst.fns[fn], [...bufArgs, x0, x1], ya, yb, chunk, MONITOR_AT, MONITOR_AT + MONITOR_BYTES);
+    runShared(h, inst.key, inst.module, arena.memory, inst.names, fn, call, [...bufArgs, x0, x1], ya, yb, chunk,
+      { mon: MONITOR_AT, scratch: arena.scratch[0] }, { mon: MONITOR_AT + MONITOR_BYTES, scratch: arena.scratch[1] });
   }
 
   private bufArgs(bufs: readonly BufId[], ctx: KernelContext): number[] {
@@ -257,17 +268,17 @@ class Fallback implements CompiledScheme {
   }
 }
 
-function buildPlan(scheme: CheckedScheme, dtype: DType): Plan {
+function buildPlan(scheme: CheckedScheme, dtype: DType, opts: WasmOptions): Plan {
   if (!wasmApi) throw new Unsupported('no WebAssembly in this runtime', 0);
   if (scheme.fields.length > MAX_FIELDS) throw new Unsupported(`more than ${MAX_FIELDS} fields`, scheme.fields[MAX_FIELDS].range.start.line);
   if (scheme.params.length > MAX_PARAMS) throw new Unsupported(`more than ${MAX_PARAMS} params`, scheme.params[MAX_PARAMS].range.start.line);
-  const update = updateGraph(scheme);
+  const update = updateGraph(scheme, opts);
   checkVectorisable(update, dtype);
   const notes: string[] = [];
   const lets = scheme.lets.map((l, k) => {
     if (l.kind !== 'expr') return null;
     try {
-      const lg = letGraph(scheme, k);
+      const lg = letGraph(scheme, k, opts);
       checkVectorisable(lg, dtype);
       return lg;
     } catch (err) {
@@ -295,7 +306,7 @@ export class WasmBackend implements KernelBackend {
     const js = this.js.compile(scheme, opts);
     let compiled: CompiledScheme;
     try {
-      const plan = buildPlan(scheme, opts.dtype);
+      const plan = buildPlan(scheme, opts.dtype, this.opts);
       compiled = new WasmCompiled(opts.dtype, `wasm-${opts.dtype}-${hashText(key)}`, js, plan, this.opts);
     } catch (err) {
       if (!(err instanceof Unsupported)) throw err;

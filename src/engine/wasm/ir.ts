@@ -22,7 +22,9 @@ export type NodeOp =
   | 'neg' | 'abs' | 'sqrt' | 'sign' | 'exp' | 'log' | 'sin' | 'cos' | 'tanh'
   | 'add' | 'sub' | 'mul' | 'div' | 'min' | 'max' | 'pow'
   | 'lt' | 'le' | 'gt' | 'ge' | 'eq' | 'ne'
-  | 'and' | 'or' | 'not' | 'select' | 'num' | 'truth';
+  | 'and' | 'or' | 'not' | 'select' | 'num' | 'truth'
+  /** args [F, T]: the value T, which equals -F one pixel to the left (x) or one row up (y); see Graph.reuse. */
+  | 'reusex' | 'reusey';
 
 /** Buffer a load reads: a current field (c) or a let (l). */
 export interface BufRef {
@@ -76,6 +78,93 @@ export class Graph {
   constant(v: number, line: number): number {
     return this.make('const', [], line, { value: v });
   }
+
+  /** The node with every load moved by (dx, dy); null where that is not a pure translation (x, y, reused values). */
+  shift(id: number, dx: number, dy: number): number | null {
+    const n = this.nodes[id];
+    if (n.inv) return id;
+    if (n.op === 'load') return this.make('load', [], n.line, { buf: n.buf, dx: (n.dx ?? 0) + dx, dy: (n.dy ?? 0) + dy });
+    if (n.op === 'x' || n.op === 'y' || n.op === 'reusex' || n.op === 'reusey') return null;
+    const args: number[] = [];
+    for (const a of n.args) {
+      const b = this.shift(a, dx, dy);
+      if (b === null) return null;
+      args.push(b);
+    }
+    return this.make(n.op, args, n.line, { value: n.value });
+  }
+
+  /**
+   * A canonical form up to sign: (c, s) with value(id) = s·value(c) exactly in IEEE arithmetic, using only rules that
+   * hold bit for bit: a - b = -(b - a), (-a) - (-b) = -(a - b), a - (-b) = a + b, commutative + and ·, (-a)·b = -(a·b),
+   * (-a)/b = -(a/b). Any other operation keeps its arguments as they are (signs materialised).
+   */
+  canon(id: number, memo = new Map<number, [number, number]>()): [number, number] {
+    const hit = memo.get(id);
+    if (hit) return hit;
+    const n = this.nodes[id];
+    const line = n.line;
+    let out: [number, number];
+    const ordered = (op: 'add' | 'mul', a: number, b: number) => this.make(op, a <= b ? [a, b] : [b, a], line);
+    const diff = (a: number, b: number, sign: number): [number, number] =>
+      a <= b ? [this.make('sub', [a, b], line), sign] : [this.make('sub', [b, a], line), -sign];
+    if (n.op === 'sub' || n.op === 'add') {
+      const [a, sa] = this.canon(n.args[0], memo), [b, sb] = this.canon(n.args[1], memo);
+      const same = sa === sb;
+      if (n.op === 'sub') out = same ? diff(a, b, sa) : [ordered('add', a, b), sa];
+      else out = same ? [ordered('add', a, b), sa] : diff(a, b, sa);
+    } else if (n.op === 'neg') {
+      const [a, sa] = this.canon(n.args[0], memo);
+      out = [a, -sa];
+    } else if (n.op === 'mul' || n.op === 'div') {
+      const [a, sa] = this.canon(n.args[0], memo), [b, sb] = this.canon(n.args[1], memo);
+      out = [n.op === 'mul' ? ordered('mul', a, b) : this.make('div', [a, b], line), sa * sb];
+    } else if (n.args.length === 0) {
+      out = [id, 1];
+    } else {
+      const args = n.args.map(a => {
+        const [c, sc] = this.canon(a, memo);
+        return sc < 0 ? this.make('neg', [c], line) : c;
+      });
+      out = [this.make(n.op, args, line, { value: n.value, buf: n.buf, dx: n.dx, dy: n.dy }), 1];
+    }
+    memo.set(id, out);
+    return out;
+  }
+
+  /**
+   * Taking a flux from the vector before costs a shuffle and a negation (from the row above: a load, a negation and
+   * a store): worth it only for a term with a division, square root or exp, or several other operations.
+   */
+  private worthReusing(id: number): boolean {
+    const seen = new Set<number>();
+    let ops = 0, costly = false;
+    const walk = (k: number): void => {
+      const n = this.nodes[k];
+      if (n.inv || seen.has(k) || n.op === 'load') return;
+      seen.add(k);
+      ops++;
+      if (n.op === 'div' || n.op === 'sqrt' || n.op === 'exp') costly = true;
+      n.args.forEach(walk);
+    };
+    walk(id);
+    return costly || ops >= 6;
+  }
+
+  /**
+   * For a sum over a set holding both o and -o (o one step right or down): when the term at -o is exactly minus the
+   * term at o taken one pixel back (the flux through a shared face, written for both pixels), the term at -o
+   * becomes a reuse node, so kernels compute each face's flux once. Returns the new term, or the old one.
+   */
+  reuse(forward: number, backward: number, axis: 'x' | 'y', line: number): number {
+    if (!this.worthReusing(backward)) return backward;
+    const back = this.shift(forward, axis === 'x' ? -1 : 0, axis === 'y' ? -1 : 0);
+    if (back === null || this.nodes[forward].inv) return backward;
+    const memo = new Map<number, [number, number]>();
+    const [c1, s1] = this.canon(backward, memo), [c2, s2] = this.canon(back, memo);
+    if (c1 !== c2 || s1 !== -s2) return backward;
+    return this.make(axis === 'x' ? 'reusex' : 'reusey', [forward, backward], line);
+  }
 }
 
 interface Env {
@@ -94,6 +183,8 @@ export interface KernelGraph {
 
 class Lowerer {
   readonly g = new Graph();
+  /** Off only to check that reusing fluxes changes no bit. */
+  reuseFluxes = true;
   private readonly field = new Map<string, number>();
   private readonly let = new Map<string, number>();
   private readonly param = new Map<string, number>();
@@ -205,6 +296,13 @@ class Lowerer {
           return g.num(this.lower(e.body, { ...env, offsets: inner }), line);
         });
         if (parts.length === 0) return g.constant(e.op === 'sum' ? 0 : e.op === 'max' ? -Infinity : Infinity, line);
+        if (e.op === 'sum' && this.reuseFluxes) {
+          const at = (dx: number, dy: number) => set.findIndex(o => o[0] === dx && (o[1] ?? 0) === dy);
+          for (const [dx, dy, axis] of [[1, 0, 'x'], [0, 1, 'y']] as const) {
+            const f = at(dx, dy), b = at(-dx, -dy);
+            if (f >= 0 && b >= 0 && (axis === 'x' || this.scheme.dims === 2)) parts[b] = g.reuse(parts[f], parts[b], axis, line);
+          }
+        }
         const op = e.op === 'sum' ? 'add' : e.op;
         return parts.slice(1).reduce((acc, p) => g.make(op, [acc, p], line), parts[0]);
       }
@@ -270,8 +368,9 @@ class Lowerer {
 }
 
 /** The update kernel's graph: every update in evaluation order, primed reads bound to earlier new values. */
-export function updateGraph(scheme: CheckedScheme): KernelGraph {
+export function updateGraph(scheme: CheckedScheme, opts: { reuseFluxes?: boolean } = {}): KernelGraph {
   const low = new Lowerer(scheme);
+  low.reuseFluxes = opts.reuseFluxes ?? true;
   const stores: { field: number; node: number }[] = [];
   for (const u of scheme.updates) {
     const k = scheme.fields.findIndex(f => f.name === u.field);
@@ -284,10 +383,11 @@ export function updateGraph(scheme: CheckedScheme): KernelGraph {
 }
 
 /** The graph of `expr` let number `index`. */
-export function letGraph(scheme: CheckedScheme, index: number): KernelGraph {
+export function letGraph(scheme: CheckedScheme, index: number, opts: { reuseFluxes?: boolean } = {}): KernelGraph {
   const l = scheme.lets[index];
   if (l.kind !== 'expr') throw new Unsupported('a blur let', l.range.start.line);
   const low = new Lowerer(scheme);
+  low.reuseFluxes = opts.reuseFluxes ?? true;
   const node = low.g.num(low.lower(l.expr, ROOT), l.range.start.line);
   return { graph: low.g, stores: [{ field: index, node }] };
 }

@@ -18,6 +18,18 @@ export const MAX_THREADS = 4;
 /** Buffers start after this (plus a halo's worth of bytes, so that base + relative offsets never go below 0). */
 export const BUFFERS_AT = MONITOR_AT + MAX_THREADS * MONITOR_BYTES;
 
+/** At most this many vertical fluxes per kernel are kept for the next row; others are computed twice. */
+export const MAX_ROW_FLUXES = 8;
+/** Bytes per kept row of vertical fluxes (the row plus a vector's slack, 16-byte aligned). */
+export function rowFluxStride(pw: number, dtype: DType): number {
+  const bytes = dtype === 'float32' ? 4 : 8;
+  return Math.ceil(((pw + 4) * bytes) / 16) * 16;
+}
+/** Bytes of row-flux scratch each thread needs. */
+export function rowFluxBytes(pw: number, dtype: DType): number {
+  return MAX_ROW_FLUXES * rowFluxStride(pw, dtype);
+}
+
 /** Functions of Math the invariant (scalar) prologue calls; the same functions the JavaScript backend calls. */
 export const IMPORTS = ['exp', 'log', 'sin', 'cos', 'tanh', 'sign', 'pow'] as const;
 
@@ -35,7 +47,7 @@ export interface KernelGeometry {
 
 export interface EmittedKernel {
   readonly body: FnBody;
-  /** One i32 base-address argument per entry, in this order, then x0, x1, y0, y1, monitor address. */
+  /** One i32 base-address argument per entry, in this order, then x0, x1, y0, y1, monitor address, row-flux scratch. */
   readonly bufs: readonly BufId[];
 }
 
@@ -118,8 +130,8 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   const storeBufs = kg.stores.map(s => useBuf({ kind: target, index: s.field }));
 
   const nb = bufs.length;
-  const fb = new FnBody([...bufs.map((): ValType => I32), I32, I32, I32, I32, I32], []);
-  const X0 = nb, X1 = nb + 1, Y0 = nb + 2, Y1 = nb + 3, MON = nb + 4;
+  const fb = new FnBody([...bufs.map((): ValType => I32), I32, I32, I32, I32, I32, I32], []);
+  const X0 = nb, X1 = nb + 1, Y0 = nb + 2, Y1 = nb + 3, MON = nb + 4, ROWBUF = nb + 5;
   const constV = (x: number) => fb.v128c(f32 ? [x, x, x, x] : [x, x], f32 ? 'f32' : 'f64');
 
   // ---- prologue: invariant values in Float64, then the ones the lanes use, splatted.
@@ -180,13 +192,29 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   const uses = new Map<number, number>();
   for (const n of variant) for (const a of n.args) uses.set(a, (uses.get(a) ?? 0) + 1);
   for (const s of kg.stores) uses.set(s.node, (uses.get(s.node) ?? 0) + 1);
+  // Reused fluxes (ir.ts, Graph.reuse): the forward flux F of the vector before (x) or of the row above (y).
+  const reuseX = variant.filter(n => n.op === 'reusex');
+  const reuseY = variant.filter(n => n.op === 'reusey').slice(0, MAX_ROW_FLUXES);
+  const carry = new Map<number, number>();
+  for (const n of reuseX) {
+    uses.set(n.args[0], (uses.get(n.args[0]) ?? 0) + 2);
+    if (!carry.has(n.args[0])) carry.set(n.args[0], fb.local(V128));
+  }
+  const rowSlot = new Map<number, number>();
+  for (const n of reuseY) {
+    uses.set(n.args[0], (uses.get(n.args[0]) ?? 0) + 2);
+    if (!rowSlot.has(n.args[0])) rowSlot.set(n.args[0], rowSlot.size);
+  }
+  const rowStride = rowFluxStride(geo.pw, dtype);
+  /** Emission modes: compute reused fluxes directly (row starts of a call, vectors at a row's clamped end). */
+  let directX = true, directY = true;
 
   const y = fb.local(I32), x = fb.local(I32), rel = fb.local(I32), xlast = fb.local(I32);
   const addr = bufs.map(() => fb.local(I32));
   const mn = monitors ? kg.stores.map(() => fb.local(V128)) : [];
   const mx = monitors ? kg.stores.map(() => fb.local(V128)) : [];
   const nan = monitors ? kg.stores.map(() => fb.local(V128)) : [];
-  const sv = fb.local(V128);
+  const sv = fb.local(V128), rowAt = fb.local(I32);
   const usesY = variant.some(n => n.op === 'y');
   const yv = usesY ? fb.local(V128) : -1;
   const tmp: number[] = [];
@@ -235,6 +263,30 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
         break;
       }
       case 'exp': emitExp32(a[0]); break;
+      case 'reusex': {
+        const c = carry.get(a[0]);
+        if (directX || c === undefined) {
+          emit(a[1]);
+          break;
+        }
+        // Lanes x-1 .. x+L-2 of F: the last lane of the vector before, then the first L-1 lanes of this one.
+        fb.get(c);
+        emit(a[0]);
+        fb.simd(Simd.shuffle);
+        for (let k = 0; k < 16; k++) fb.code.u8(16 - bytes + k);
+        fb.simd(T.neg);
+        fb.get(vLocal.get(a[0]) as number).set(c);
+        break;
+      }
+      case 'reusey': {
+        const slot = rowSlot.get(a[0]);
+        if (directY || slot === undefined) {
+          emit(a[1]);
+          break;
+        }
+        fb.get(rowAt).mem(Simd.load, align, slot * rowStride + copy * L * bytes, true).simd(T.neg);
+        break;
+      }
       default: throw new Unsupported(`${n.op}()`, n.line);
     }
     if ((uses.get(id) ?? 0) > 1) {
@@ -283,17 +335,11 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
     constV(0); fb.set(nan[k]);
   }
   fb.get(Y0).set(y);
-  fb.op(Op.block, VOID);
-  fb.get(y).get(Y1).op(Op.i32GeS, Op.brIf).code.u32(0);
   fb.get(X1).i32c(L).op(Op.i32Sub).set(xlast);
-  fb.op(Op.loop, VOID);
-  if (usesY) {
-    fb.get(y).simd(Simd.i32x4Splat).simd(f32 ? Simd.f32x4ConvertI32x4S : Simd.f64x2ConvertLowI32x4S).set(yv);
-  }
-  fb.get(X0).set(x);
   const pixels = (copies: number): void => {
     fb.get(y).i32c(geo.pw).op(Op.i32Mul).get(x).op(Op.i32Add).i32c(shift).op(Op.i32Shl).set(rel);
     bufs.forEach((_, k) => fb.get(k).get(rel).op(Op.i32Add).set(addr[k]));
+    if (rowSlot.size) fb.get(ROWBUF).get(x).get(X0).op(Op.i32Sub).i32c(shift).op(Op.i32Shl, Op.i32Add).set(rowAt);
     for (copy = 0; copy < copies; copy++) {
       done.clear();
       kg.stores.forEach((s, k) => {
@@ -308,31 +354,72 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
           fb.get(nan[k]).get(sv).get(sv).simd(T.ne).simd(Simd.or).set(nan[k]);
         }
       });
+      // This row's forward vertical fluxes, for the next row (after this vector read the row above's).
+      for (const [f, slot] of rowSlot) {
+        fb.get(rowAt);
+        emit(f);
+        fb.mem(Simd.store, align, slot * rowStride + copy * L * bytes, true);
+      }
     }
     copy = 0;
   };
-  // Two vectors per iteration while they fit (less loop and address work per pixel)...
-  fb.op(Op.block, VOID, Op.loop, VOID);
-  fb.get(x).get(xlast).i32c((UNROLL - 1) * L).op(Op.i32Sub, Op.i32GtS, Op.brIf).code.u32(1);
-  pixels(UNROLL);
-  fb.get(x).i32c(UNROLL * L).op(Op.i32Add).set(x);
-  fb.op(Op.br).code.u32(0);
-  fb.op(Op.end, Op.end);
-  // ...then at most two more single vectors, the last one ending at the row's end (it may overlap the one before).
+  const row = (firstRow: boolean): void => {
+    if (usesY) {
+      fb.get(y).simd(Simd.i32x4Splat).simd(f32 ? Simd.f32x4ConvertI32x4S : Simd.f64x2ConvertLowI32x4S).set(yv);
+    }
+    directX = true;
+    directY = true;
+    if (carry.size) {
+      // The forward horizontal fluxes of the L pixels before the row's first vector.
+      fb.get(X0).i32c(L).op(Op.i32Sub).set(x);
+      pixelsHeader();
+      done.clear();
+      for (const [f, c] of carry) {
+        emit(f);
+        fb.set(c);
+      }
+    }
+    fb.get(X0).set(x);
+    // Two vectors per iteration while they fit (less loop and address work per pixel)...
+    directX = false;
+    directY = firstRow;
+    fb.op(Op.block, VOID, Op.loop, VOID);
+    fb.get(x).get(xlast).i32c((UNROLL - 1) * L).op(Op.i32Sub, Op.i32GtS, Op.brIf).code.u32(1);
+    pixels(UNROLL);
+    fb.get(x).i32c(UNROLL * L).op(Op.i32Add).set(x);
+    fb.op(Op.br).code.u32(0);
+    fb.op(Op.end, Op.end);
+    // ...then at most two more single vectors, the last one ending at the row's end (it may overlap the one before,
+    // so it computes reused fluxes directly).
+    directX = true;
+    directY = true;
+    fb.op(Op.block, VOID);
+    fb.get(x).get(X1).op(Op.i32GeS, Op.brIf).code.u32(0);
+    fb.get(x).get(xlast).op(Op.i32GtS, Op.if, VOID);
+    fb.get(xlast).set(x);
+    fb.op(Op.end);
+    fb.op(Op.loop, VOID);
+    pixels(1);
+    fb.get(x).get(xlast).op(Op.i32GeS, Op.brIf).code.u32(1);
+    fb.get(x).i32c(L).op(Op.i32Add).tee(x).get(xlast).op(Op.i32GtS, Op.if, VOID);
+    fb.get(xlast).set(x);
+    fb.op(Op.end, Op.br).code.u32(0);
+    fb.op(Op.end); // tail loop
+    fb.op(Op.end); // tail block
+    fb.get(y).i32c(1).op(Op.i32Add).set(y);
+  };
+  function pixelsHeader(): void {
+    fb.get(y).i32c(geo.pw).op(Op.i32Mul).get(x).op(Op.i32Add).i32c(shift).op(Op.i32Shl).set(rel);
+    bufs.forEach((_, k) => fb.get(k).get(rel).op(Op.i32Add).set(addr[k]));
+  }
+  // The first row of a call reads no row above from the row buffer; the other rows do.
   fb.op(Op.block, VOID);
-  fb.get(x).get(X1).op(Op.i32GeS, Op.brIf).code.u32(0);
-  fb.get(x).get(xlast).op(Op.i32GtS, Op.if, VOID);
-  fb.get(xlast).set(x);
-  fb.op(Op.end);
+  fb.get(y).get(Y1).op(Op.i32GeS, Op.brIf).code.u32(0);
+  row(true);
   fb.op(Op.loop, VOID);
-  pixels(1);
-  fb.get(x).get(xlast).op(Op.i32GeS, Op.brIf).code.u32(1);
-  fb.get(x).i32c(L).op(Op.i32Add).tee(x).get(xlast).op(Op.i32GtS, Op.if, VOID);
-  fb.get(xlast).set(x);
-  fb.op(Op.end, Op.br).code.u32(0);
-  fb.op(Op.end); // tail loop
-  fb.op(Op.end); // tail block
-  fb.get(y).i32c(1).op(Op.i32Add).tee(y).get(Y1).op(Op.i32LtS, Op.brIf).code.u32(0);
+  fb.get(y).get(Y1).op(Op.i32GeS, Op.brIf).code.u32(1);
+  row(false);
+  fb.op(Op.br).code.u32(0);
   fb.op(Op.end); // rows loop
   fb.op(Op.end); // block: an empty band still reports its (empty) monitors
   // Monitors: reduce the lanes and merge (min, max) as Float64 into the monitor slot.

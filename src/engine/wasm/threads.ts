@@ -8,7 +8,7 @@
 import type { WasmMemory, WasmModule } from './wasmApi';
 
 /** Mailbox slots (Int32). */
-const SEQ = 0, STATE = 1, CFG = 2, FN = 3, NARGS = 4, ERROR = 5, CTR = 6, YA = 7, YB = 8, ROWS = 9, MON = 10, ARGS = 12, SLOTS = 80;
+const SEQ = 0, STATE = 1, CFG = 2, FN = 3, NARGS = 4, ERROR = 5, CTR = 6, YA = 7, YB = 8, ROWS = 9, MON = 10, SCRATCH = 11, ARGS = 12, SLOTS = 80;
 /** Job states: the caller cancels a job the helper has not picked up by the time the caller ran out of chunks. */
 const PENDING = 1, RUNNING = 2, DONE = 3, CANCELLED = 4;
 
@@ -49,9 +49,9 @@ for (;;) {
     }
     const fn = fns[mail[${FN}]], n = mail[${NARGS}], args = [];
     for (let k = 0; k < n; k++) args.push(mail[${ARGS} + k]);
-    const ya = mail[${YA}], yb = mail[${YB}], rows = mail[${ROWS}], mon = mail[${MON}];
+    const ya = mail[${YA}], yb = mail[${YB}], rows = mail[${ROWS}], mon = mail[${MON}], scratch = mail[${SCRATCH}];
     const chunks = Math.ceil((yb - ya) / rows);
-    for (let k; (k = Atomics.add(mail, ${CTR}, 1)) < chunks;) fn(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mon);
+    for (let k; (k = Atomics.add(mail, ${CTR}, 1)) < chunks;) fn(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mon, scratch);
   } catch (e) {
     Atomics.store(mail, ${ERROR}, 1);
   }
@@ -126,7 +126,8 @@ export function getHelper(): Helper | null {
  */
 export function runShared(
   h: Helper, key: string, module: WasmModule, memory: WasmMemory, names: readonly string[], fn: number,
-  call: (...a: number[]) => void, args: readonly number[], ya: number, yb: number, rows: number, monMine: number, monHelper: number,
+  call: (...a: number[]) => void, args: readonly number[], ya: number, yb: number, rows: number,
+  mine: { mon: number; scratch: number }, theirs: { mon: number; scratch: number },
 ): number {
   const m = h.mail;
   if (args.length > SLOTS - ARGS) throw new Error('too many kernel arguments for the helper thread');
@@ -142,7 +143,8 @@ export function runShared(
   m[YA] = ya;
   m[YB] = yb;
   m[ROWS] = rows;
-  m[MON] = monHelper;
+  m[MON] = theirs.mon;
+  m[SCRATCH] = theirs.scratch;
   Atomics.store(m, CTR, 0);
   Atomics.store(m, STATE, PENDING);
   h.seq++;
@@ -153,10 +155,10 @@ export function runShared(
     // Test mode: this thread runs the first half itself and waits for the helper to run the rest.
     const half = chunks >> 1;
     Atomics.store(m, CTR, half);
-    for (let k = 0; k < half; k++) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), monMine);
+    for (let k = 0; k < half; k++) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mine.mon, mine.scratch);
     while (Atomics.load(m, STATE) === PENDING) Atomics.wait(m, STATE, PENDING, 50);
   }
-  for (let k; (k = Atomics.add(m, CTR, 1)) < chunks;) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), monMine);
+  for (let k; (k = Atomics.add(m, CTR, 1)) < chunks;) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mine.mon, mine.scratch);
   if (Atomics.compareExchange(m, STATE, PENDING, CANCELLED) === PENDING) return 1;
   // The helper is on its last chunk: a short spin, then sleep until it reports.
   const until = performance.now() + 0.2;
