@@ -36,7 +36,10 @@ async function main(): Promise<void> {
     const c = process.cpuUsage(c0);
     times[workers] = r.seconds;
     const cores = (c.user + c.system) / 1e6 / r.seconds;
-    console.log(`  pool, ${workers} worker(s):     ${r.seconds.toFixed(2)} s   ratio to in-process ${(r.seconds / base).toFixed(2)}   cores used ${cores.toFixed(2)}   (best PSNR ${r.curves[r.bestIndex].best.toFixed(3)} dB)`);
+    const cpu = (c.user + c.system) / 1e6;
+    console.log(`  pool, ${workers} worker(s):     ${r.seconds.toFixed(2)} s   ratio to in-process ${(r.seconds / base).toFixed(2)}   CPU ${cpu.toFixed(2)} s, cores used ${cores.toFixed(2)}   (best PSNR ${r.curves[r.bestIndex].best.toFixed(3)} dB)`);
+    // What the same work would take with each worker on a core of its own (an estimate, labelled as such).
+    console.log(`    estimate on an otherwise idle machine: CPU / ${workers} = ${(cpu / workers).toFixed(2)} s`);
   }
   const { loadavg } = await import('node:os');
   console.log(`  load average while measuring: ${loadavg().map((v) => v.toFixed(1)).join(', ')} (on ${cpus().length} cores)`);
