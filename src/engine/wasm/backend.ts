@@ -36,6 +36,7 @@ class Arena {
   /** Per thread: address of its row-flux scratch. */
   readonly scratch: readonly number[];
   readonly instances = new Map<string, { module: WasmModule; names: string[]; fns: ((...a: number[]) => void)[] }>();
+  readonly prepared = new Map<object, { g: Geometry; inst: Prepared }>();
   constructor(readonly g: Geometry, readonly dtype: DType, count: number, readonly threads: number) {
     const bytes = dtype === 'float32' ? 4 : 8;
     const size = align16(g.pw * g.ph * bytes);
@@ -124,14 +125,12 @@ class WasmCompiled implements CompiledScheme {
     return a;
   }
 
-  /** The last instance handed out: every step of a run asks for the same one. */
-  private last: { arena: Arena; g: Geometry; inst: Prepared } | null = null;
-
+  /** Every step of a run asks for the same instance: kept on the arena, so it goes when the run's buffers go. */
   private instance(arena: Arena, g: Geometry): Prepared {
-    const l = this.last;
-    if (l && l.arena === arena && l.g === g) return l.inst;
+    const hit = arena.prepared.get(this);
+    if (hit && hit.g === g) return hit.inst;
     const inst = this.prepare(arena, g);
-    this.last = { arena, g, inst };
+    arena.prepared.set(this, { g, inst });
     return inst;
   }
 
