@@ -41,7 +41,7 @@ export class LineChart {
     const opts: uPlot.Options = {
       width,
       height: this.height,
-      legend: { show: true, live: true },
+      legend: { show: true, live: false },
       cursor: { drag: { x: false, y: false }, points: { show: false } },
       scales: { x: { time: false } },
       axes: [{ ...axis, label: this.xLabel, labelSize: 14, size: 30 }, { ...axis, size: 44 }],

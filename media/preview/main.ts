@@ -98,11 +98,11 @@ const playBtn = button('▶ play', 'play or pause (key space)', () => togglePlay
 const scrubber = h('div', { class: 'scrubber' },
   stepEl,
   h('div', { class: 'row' },
-    button('⏮', 'first step (key Home)', () => showIndex(0)),
+    button('|◀', 'first step (key Home)', () => showIndex(0)),
     button('◀', 'previous recorded step (key ←)', () => showIndex(current - 1)),
     playBtn,
-    button('▶|', 'next recorded step (key →)', () => showIndex(current + 1)),
-    button('⏭', 'last step (key End)', () => showIndex(store.last)),
+    button('▶', 'next recorded step (key →)', () => showIndex(current + 1)),
+    button('▶|', 'last step (key End)', () => showIndex(store.last)),
   ),
   scrub,
 );
@@ -148,6 +148,8 @@ let follow = true;
 let playing = false;
 let playTimer: number | null = null;
 let transform: ViewTransform | null = state.zoom;
+/** True while the picture is fitted to the stage (no zoom or pan of the user's): it refits when the stage resizes. */
+let fitted = state.zoom === null;
 let win = { lo: 0, hi: 1 };
 let scheme: ToPreview.Scheme | null = null;
 let knobValues: Record<string, number> = {};
@@ -199,7 +201,8 @@ function fitView(): void {
   if (!s) return;
   const { w, hgt } = canvasSize();
   transform = fitTransform(s.frameWidth, spaceTimeRows(), w, hgt);
-  save({ zoom: transform });
+  fitted = true;
+  save({ zoom: null });
 }
 
 /** 1-D schemes draw a space–time picture: one row per recorded step. */
@@ -229,7 +232,7 @@ function draw(): void {
   const oneD = s.height === 1;
   const fw = f.width;
   const fh = oneD ? current + 1 : f.height;
-  if (!transform) fitView();
+  if (!transform || fitted) fitView();
   const t = transform as ViewTransform;
   off.width = fw;
   off.height = oneD ? spaceTimeRows() : fh;
@@ -275,6 +278,7 @@ canvas.addEventListener('wheel', (e) => {
   const { w, hgt } = canvasSize();
   const fit = fitTransform(s.frameWidth, spaceTimeRows(), w, hgt);
   transform = zoomAt(transform, e.deltaY < 0 ? 1.25 : 0.8, e.clientX - r.left, e.clientY - r.top, Math.min(1, fit.scale));
+  fitted = false;
   save({ zoom: transform });
   draw();
 }, { passive: false });
@@ -290,6 +294,7 @@ canvas.addEventListener('pointermove', (e) => {
     if (dragging.moved || Math.abs(dx) + Math.abs(dy) > 3) {
       dragging.moved = true;
       transform = panBy(transform, dx, dy);
+      fitted = false;
       dragging.x = e.clientX;
       dragging.y = e.clientY;
       draw();
@@ -681,11 +686,12 @@ function handleMessage(msg: ToPreview.Type): void {
       store.ended = msg;
       restoreStep = -1;
       if (msg.status === 'blow-up') verdictEl.dataset.tone = 'error';
-      // The picked pixel keeps its weights and row current across reruns (knobs, edits, input).
-      if (state.picked && !weights && store.frames[current]) {
+      // The picked pixel keeps its weights and row current across reruns (knobs, edits, input); without a pick,
+      // the profile shows the middle row.
+      if (store.frames[current] && store.started) {
         const step = store.frames[current].step;
-        post({ type: 'pickPixel', runId: store.runId, step, x: state.picked.x, y: state.picked.y });
-        post({ type: 'requestProfile', runId: store.runId, step, row: state.row ?? state.picked.y });
+        if (state.picked && !weights) post({ type: 'pickPixel', runId: store.runId, step, x: state.picked.x, y: state.picked.y });
+        post({ type: 'requestProfile', runId: store.runId, step, row: state.row ?? state.picked?.y ?? Math.floor(store.started.height / 2) });
       }
       if (msg.status === 'failed') showNotice(`The run failed: ${msg.message ?? 'unknown error'}`, 'error');
       renderFindings();
@@ -760,6 +766,7 @@ document.addEventListener('keydown', (e) => {
       if (!transform) break;
       const { w, hgt } = canvasSize();
       transform = zoomAt(transform, a.factor, w / 2, hgt / 2, 0.05);
+      fitted = false;
       save({ zoom: transform });
       draw();
       break;
@@ -768,6 +775,7 @@ document.addEventListener('keydown', (e) => {
 });
 
 new ResizeObserver(() => {
+  if (fitted) fitView();
   draw();
   rangeChart.resize();
   psnrChart.resize();

@@ -243,7 +243,7 @@ export interface WeightCell {
   readonly dy: number;
   readonly weight: number;
   readonly text: string;
-  /** Index into the diverging table (scale = largest |weight| of the grid). */
+  /** Index into the diverging table (scale: 1, or the largest |weight| when that is larger). */
   readonly colour: number;
   readonly centre: boolean;
 }
@@ -252,7 +252,9 @@ export interface WeightCell {
 export function weightRows(w: Pick<ToPreview.Weights, 'grid' | 'radius' | 'dims'>): WeightCell[][] {
   const side = 2 * w.radius + 1;
   const rows = w.dims === 2 ? side : 1;
-  let scale = 0;
+  // Colour strength is the weight itself up to 1 (a plain average's weights stay pale, a dominant centre is strong);
+  // larger weights, as in wave or sharpening schemes, scale the map to the largest.
+  let scale = 1;
   for (const v of w.grid) scale = Math.max(scale, Math.abs(v));
   const out: WeightCell[][] = [];
   for (let r = 0; r < rows; r++) {

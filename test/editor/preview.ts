@@ -49,6 +49,43 @@ function register(): void {
     assert.ok(k.colours > 20, 'the new frame is drawn');
   });
 
+  test('writing the knobs into the file is one edit, and one undo takes it back', async () => {
+    const editor = await vscode.window.showTextDocument(await vscode.workspace.openTextDocument(workspaceFile('edge-preserving.fluxel')), { preview: false, viewColumn: vscode.ViewColumn.One });
+    const before = editor.document.getText();
+    const c = await probe<{ clicked: string }>('liverun', JSON.stringify({ action: 'click', text: 'write knobs into the file' }));
+    assert.match(c.clicked, /write knobs/);
+    const after = await poll('the knob values in the file', () => (editor.document.getText() !== before ? editor.document.getText() : null));
+    const changed = after.split('\n').filter((l, i) => l !== before.split('\n')[i]);
+    info(`written: ${changed.join(' | ')}`);
+    assert.deepEqual(changed.map((l) => l.split('=')[0].trim()), ['param K'], 'only the moved knob changed');
+    assert.match(changed[0], /^param K = 0\.3\d* in \[0\.005, 0\.5\]$/);
+    await vscode.window.showTextDocument(editor.document, { preview: false, viewColumn: vscode.ViewColumn.One });
+    await vscode.commands.executeCommand('undo');
+    await poll('the file as it was after one undo', () => editor.document.getText() === before);
+    await editor.document.save();
+  });
+
+  test('while the file has errors the last run stays, dimmed, and its first error is one click away', async () => {
+    const editor = await openWithLiveRun('heat-2d.fluxel');
+    await probe<StateAnswer>('liverun', JSON.stringify({ action: 'state', minFrames: 41, done: true }));
+    const line = editor.document.getText().split('\n').findIndex((l) => l.startsWith("u' ="));
+    const broken = new vscode.WorkspaceEdit();
+    broken.insert(editor.document.uri, new vscode.Position(line, "u' = u + ".length), 'zz + ');
+    assert.ok(await vscode.workspace.applyEdit(broken));
+    editor.selection = new vscode.Selection(0, 0, 0, 0);
+    const p = await probe<{ text: string; frames: string }>('liverun', JSON.stringify({ action: 'problems' }));
+    info(`first error: ${p.text}; ${p.frames} frames of the last good run kept`);
+    assert.match(p.text, new RegExp(`^line ${line + 1}: `));
+    assert.equal(p.frames, '41', 'the last good run is still there');
+    await poll('the error selected in the editor', () => {
+      const e = vscode.window.activeTextEditor;
+      return e && e.document.uri.toString() === editor.document.uri.toString() && e.selection.start.line === line && !e.selection.isEmpty;
+    });
+    await vscode.commands.executeCommand('undo');
+    await poll('the file as it was', () => !editor.document.getText().includes('zz'));
+    await editor.document.save();
+  });
+
   test('clicking a finding of an unstable scheme selects its update line in the editor', async () => {
     const text = [
       '# Heat flow with dt over its limit (0.25): the live run reports new extrema.',
@@ -82,10 +119,10 @@ function register(): void {
     const config = vscode.workspace.getConfiguration('workbench');
     const before = config.get<string>('colorTheme');
     try {
-      for (const [theme, name] of [['Default Dark Modern', 'live-run-dark'], ['Default Light Modern', 'live-run-light']] as const) {
+      for (const [theme, name, kind] of [['Default Dark Modern', 'live-run-dark', 'dark'], ['Default Light Modern', 'live-run-light', 'light']] as const) {
         await config.update('colorTheme', theme, vscode.ConfigurationTarget.Global);
         await poll(`the ${theme} theme`, () => (theme.includes('Light') ? vscode.window.activeColorTheme.kind === vscode.ColorThemeKind.Light : vscode.window.activeColorTheme.kind === vscode.ColorThemeKind.Dark));
-        const shot = await probe<{ path: string; page: { colours: number }; panel: { colours: number; width: number } }>('liverun', JSON.stringify({ action: 'shot', name }));
+        const shot = await probe<{ path: string; page: { colours: number }; panel: { colours: number; width: number } }>('liverun', JSON.stringify({ action: 'shot', name, theme: kind, pick: [0.55, 0.5] }));
         info(`screenshot ${shot.path}: ${shot.page.colours} colours; the panel ${shot.panel.width} px wide with ${shot.panel.colours} colours`);
         assert.ok(shot.panel.width > 200, 'the panel is visible beside the editor');
         assert.ok(shot.panel.colours > 50, `the panel shows a picture and charts (${shot.panel.colours} colours)`);

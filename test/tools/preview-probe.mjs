@@ -98,8 +98,30 @@ export async function liveRunProbe(page, extra, outDir) {
       });
       return { text, ...d };
     }
+    case 'click': {
+      // A button of the page by (part of) its text.
+      const button = f.locator('button', { hasText: req.text }).first();
+      await button.click();
+      return { clicked: await button.innerText(), ...(await facts(f)) };
+    }
+    case 'problems': {
+      // The page marks itself stale and shows the first error; clicking it reveals the error in the editor.
+      await pollFor(page, 'the stale mark and the first error', () => f.evaluate(() => document.body.classList.contains('stale') && !document.querySelector('.problems').hidden));
+      const link = f.locator('.problems button').first();
+      const text = await link.innerText();
+      const frames = (await facts(f)).frames;
+      await link.click();
+      return { text, frames, stale: true };
+    }
     case 'shot': {
       await pollFor(page, 'a finished run', async () => (await facts(f)).status === 'done');
+      // The page takes the new theme's variables a moment after the workbench does.
+      if (req.theme) await pollFor(page, `the ${req.theme} theme in the page`, () => f.evaluate((t) => document.body.classList.contains(`vscode-${t}`), req.theme));
+      if (req.pick) {
+        const box = await f.locator('canvas.picture').boundingBox();
+        await f.locator('canvas.picture').click({ position: { x: box.width * req.pick[0], y: box.height * req.pick[1] } });
+        await pollFor(page, 'the weights of the picked pixel', async () => Boolean((await facts(f)).weights));
+      }
       const path = join(outDir, `${req.name}.png`);
       const buf = await page.screenshot({ path });
       const box = await page.locator('iframe.webview.ready').last().boundingBox();

@@ -167,7 +167,8 @@ describe('weights grid', () => {
   it('lays the grid out with dy rows, marks the centre and colours by sign', () => {
     const rows = weightRows({ grid: [0, 0.25, 0, 0.25, -0.5, 0.25, 0, 0.25, 0], radius: 1, dims: 2 });
     expect(rows.length).toBe(3);
-    expect(rows[1][1]).toMatchObject({ dx: 0, dy: 0, centre: true, text: '−0.5', colour: 0 });
+    expect(rows[1][1]).toMatchObject({ dx: 0, dy: 0, centre: true, text: '−0.5', colour: 64 });
+    expect(weightRows({ grid: [0, 1, 0, 1, -4, 1, 0, 1, 0], radius: 1, dims: 2 })[1][1].colour).toBe(0);
     expect(rows[0][1]).toMatchObject({ dx: 0, dy: -1, text: '0.25' });
     expect(rows[0][0].text).toBe('·');
     expect(rows[0][1].colour).toBeGreaterThan(128);
