@@ -59,22 +59,33 @@ function median(xs: number[]): number {
   return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2;
 }
 
-function engine(text: string, n: number, steps: number, backend: KernelBackend): { seconds: number; mean: number; backend: string } {
+function engine(text: string, n: number, steps: number, backend: KernelBackend): { seconds: number; cpu: number; mean: number; backend: string } {
   const r = parseAndCheck(text);
   if (!r.scheme) throw new Error('bench scheme has errors');
   const run = createRun(r.scheme, { image: image(n), steps, backend });
-  const res = run.runSync();
+  // CPU time of the whole process over the steps (both threads; frames excluded as in stepSeconds), in seconds.
+  let cpu = 0, c0 = process.cpuUsage();
+  const res = run.runSync({
+    onProgress: () => {
+      const d = process.cpuUsage(c0);
+      cpu += (d.user + d.system) / 1e6;
+    },
+    shouldCancel: () => {
+      c0 = process.cpuUsage();
+      return false;
+    },
+  });
   const d = run.fieldData(0);
   let sum = 0;
   for (let i = 0; i < d.length; i++) sum += d[i];
-  return { seconds: res.stepSeconds, mean: sum / d.length, backend: res.backend };
+  return { seconds: res.stepSeconds, cpu, mean: sum / d.length, backend: res.backend };
 }
 
-function external(cmd: string, args: string[]): { seconds: number; mean: number } | null {
+function external(cmd: string, args: string[]): { seconds: number; mean: number; cpu: number } | null {
   const p = spawnSync(cmd, args, { encoding: 'utf8' });
   if (p.status !== 0) return null;
-  const [s, m] = p.stdout.trim().split(/\s+/).map(Number);
-  return { seconds: s, mean: m };
+  const [s, m, c] = p.stdout.trim().split(/\s+/).map(Number);
+  return { seconds: s, mean: m, cpu: c };
 }
 
 const dir = mkdtempSync(join(tmpdir(), 'fluxel-wasm-bench-'));
@@ -107,7 +118,7 @@ for (const c of cases) {
   // Warm-up: compiles the kernels, starts the helper thread, touches the pages.
   engine(c.text, c.n, 2, wasm2);
   engine(c.text, c.n, 2, wasm1);
-  const t: Record<string, number[]> = { c: [], c128: [], w2: [], w1: [], js: [], np: [], r2: [], r1: [] };
+  const t: Record<string, number[]> = { c: [], c128: [], w2: [], w1: [], js: [], np: [], r2: [], r1: [], cc: [], cw2: [], cw1: [] };
   let means = { c: NaN, w2: NaN, js: NaN, np: NaN };
   let label2 = '';
   for (let r = 0; r < ROUNDS; r++) {
@@ -124,6 +135,9 @@ for (const c of cases) {
     // Ratios of runs next to each other in time: steadier than ratios of medians when the load drifts.
     t.r2.push(w2.seconds / cr.seconds);
     t.r1.push(w1.seconds / cr.seconds);
+    t.cc.push(cr.cpu);
+    t.cw2.push(w2.cpu);
+    t.cw1.push(w1.cpu);
     const c2 = has128 ? external(c128, [c.kind, String(c.n), String(c.steps)]) : null;
     if (c2) t.c128.push(c2.seconds);
     if (r < 3) {
@@ -142,6 +156,9 @@ for (const c of cases) {
   const R2 = median(t.r2), R1 = median(t.r1);
   console.log(`  wasm, 2 threads: ${(W2 * 1e3).toFixed(1)} ms = ${(W2 / C).toFixed(2)}× C; median of paired ratios ${R2.toFixed(2)}×  (target ≤ ${c.target.toFixed(1)}×: ${R2 <= c.target ? 'met' : 'NOT met'})`);
   console.log(`  wasm, 1 thread:  ${(W1 * 1e3).toFixed(1)} ms = ${(W1 / C).toFixed(2)}× C; median of paired ratios ${R1.toFixed(2)}×`);
+  const CC = median(t.cc), CW2 = median(t.cw2), CW1 = median(t.cw1);
+  console.log(`  CPU time (less sensitive to other load): C ${(CC * 1e3).toFixed(1)} ms, wasm 1 thread ${(CW1 * 1e3).toFixed(1)} ms = ${(CW1 / CC).toFixed(2)}×, ` +
+    `wasm 2 threads ${(CW2 * 1e3).toFixed(1)} ms over both = ${(CW2 / 2 / CC).toFixed(2)}× C per core (the wall ratio two free cores would give)`);
   if (t.c128.length) console.log(`  (context: C with 128-bit vectors ${(median(t.c128) * 1e3).toFixed(1)} ms = ${(median(t.c128) / C).toFixed(2)}× C)`);
   console.log(`  JS backend:      ${(J * 1e3).toFixed(1)} ms = ${(J / C).toFixed(2)}× C, ${(J / W2).toFixed(1)}× slower than wasm 2 threads`);
   if (t.np.length) {

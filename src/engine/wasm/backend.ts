@@ -1,6 +1,6 @@
 // The WebAssembly SIMD kernel backend: compiles a checked scheme's update and `expr` lets to f32x4 (Float32) or
-// f64x2 (Float64) kernels with our own emitter, keeps a run's buffers in one shared WebAssembly.Memory, and splits
-// rows into two bands (this thread and one helper) on large images. Field initialisers, blur lets and anything
+// f64x2 (Float64) kernels with our own emitter, keeps a run's buffers in one shared WebAssembly.Memory, and shares
+// the rows with a helper thread on large images. Field initialisers, blur lets and anything
 // it cannot vectorise run on the JavaScript backend over the same buffers. Must not import vscode or the DOM.
 
 import type { CheckedScheme } from '../../notation/scheme';

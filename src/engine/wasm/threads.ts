@@ -1,9 +1,7 @@
-// The helper thread that shares the rows of a SIMD kernel over the same shared WebAssembly.Memory.
-// One per process, started on first use and never keeping the process alive; commands go through a small shared
-// mailbox (sequence number, job state, function, arguments, a chunk counter), so a step costs no message passing
-// once the module is loaded.
-// Loads node:worker_threads through process.getBuiltinModule, so this module imports nothing from Node itself and
-// simply finds no helper where there are no threads.
+// The helper thread that shares the rows of a SIMD kernel over the same shared WebAssembly.Memory: one per process,
+// started on first use, never keeping the process alive, driven through a small shared mailbox (no messages per step).
+// Loads node:worker_threads through process.getBuiltinModule, so it imports nothing from Node and simply finds no
+// helper where there are no threads.
 
 import type { WasmMemory, WasmModule } from './wasmApi';
 
