@@ -157,7 +157,6 @@ let knobDt = 0;
 let verdict: ToPreview.Verdict | null = null;
 let weights: ToPreview.Weights | null = null;
 let profile: ToPreview.Profile | null = null;
-let restoredKnobs = state.knobs;
 /** After a reload the page goes back to the remembered step once its frame arrives, instead of following. */
 let restoreStep = state.step;
 const off = document.createElement('canvas');
@@ -449,7 +448,6 @@ function renderKnobs(): void {
 }
 
 function sendKnobs(): void {
-  save({ knobs: { values: knobValues, dt: knobDt } });
   post({ type: 'setKnobs', values: knobValues, dt: knobDt });
 }
 
@@ -631,18 +629,7 @@ function handleMessage(msg: ToPreview.Type): void {
       scheme = msg;
       knobValues = { ...msg.current.values };
       knobDt = msg.current.dt;
-      // Knob values remembered across a reload are sent once, if they still fit this scheme.
-      if (restoredKnobs) {
-        const r = restoredKnobs;
-        restoredKnobs = null;
-        const names = msg.knobs.map((k) => k.name);
-        const differs = r.dt !== knobDt || names.some((n) => r.values[n] !== undefined && r.values[n] !== knobValues[n]);
-        if (names.every((n) => typeof r.values[n] === 'number') && differs) {
-          knobValues = Object.fromEntries(names.map((n) => [n, r.values[n]]));
-          knobDt = r.dt;
-          post({ type: 'setKnobs', values: knobValues, dt: knobDt });
-        }
-      }
+      // The host owns the knob values (and remembers them per file), so a reloaded page simply shows them.
       renderKnobs();
       renderInput(msg.input, msg.inputLabel);
       fieldSel.replaceChildren(...msg.fields.map((f) => h('option', { value: f, text: f })));

@@ -1,5 +1,5 @@
-// The webview's remembered UI state (vscode.setState / getState): view mode, step, zoom and pan, picked pixel,
-// profile row and the knob values. DOM-free; `restoreState` accepts anything and keeps only well-formed fields,
+// The webview's remembered UI state (vscode.setState / getState): view mode, step, zoom and pan, picked pixel and
+// profile row (knob values and the input are remembered by the host, per file). DOM-free; `restoreState` accepts anything and keeps only well-formed fields,
 // since the stored object may come from an older version of the panel.
 
 import type { ViewMode } from './viewModel';
@@ -13,11 +13,10 @@ export interface UiState {
   readonly zoom: { readonly scale: number; readonly offsetX: number; readonly offsetY: number } | null;
   readonly picked: { readonly x: number; readonly y: number } | null;
   readonly row: number | null;
-  readonly knobs: { readonly values: Readonly<Record<string, number>>; readonly dt: number } | null;
 }
 
 export function initialState(source: string): UiState {
-  return { version: 1, source, view: 'now', step: -1, zoom: null, picked: null, row: null, knobs: null };
+  return { version: 1, source, view: 'now', step: -1, zoom: null, picked: null, row: null };
 }
 
 type Obj = Record<string, unknown>;
@@ -36,8 +35,5 @@ export function restoreState(raw: unknown, source: string): UiState {
   const p = raw.picked;
   const picked = isObj(p) && nat(p.x) && nat(p.y) ? { x: p.x, y: p.y } : null;
   const row = nat(raw.row) ? raw.row : null;
-  let knobs: UiState['knobs'] = null;
-  const k = raw.knobs;
-  if (isObj(k) && isObj(k.values) && fin(k.dt) && k.dt > 0 && Object.values(k.values).every(fin)) knobs = { values: { ...(k.values as Record<string, number>) }, dt: k.dt };
-  return { version: 1, source, view, step, zoom, picked, row, knobs };
+  return { version: 1, source, view, step, zoom, picked, row };
 }

@@ -39,6 +39,7 @@ export function webviewOptions(extensionUri: vscode.Uri): vscode.WebviewOptions 
 }
 
 const inputKey = (uri: vscode.Uri) => `fluxel.liveRun.input:${uri.toString()}`;
+const knobsKey = (uri: vscode.Uri) => `fluxel.liveRun.knobs:${uri.toString()}`;
 
 function fileNameOf(uri: vscode.Uri): string {
   return uri.path.split('/').pop() ?? uri.toString();
@@ -100,6 +101,8 @@ export class LiveRunPanel extends Disposable {
       readImage: (uri) => this.readImage(uri),
       recallInput: () => validInput(this.ctx.memory.get(inputKey(this.document))),
       rememberInput: (input: InputChoice) => void this.ctx.memory.update(inputKey(this.document), input),
+      recallKnobs: () => this.ctx.memory.get(knobsKey(this.document)),
+      rememberKnobs: (knobs) => void this.ctx.memory.update(knobsKey(this.document), knobs),
       pickImage: async () => {
         const picked = await vscode.window.showOpenDialog({
           canSelectMany: false, openLabel: 'Run on this image',

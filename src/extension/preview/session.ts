@@ -50,11 +50,37 @@ export interface SessionEnv {
   /** The remembered input choice of this document, or null. */
   recallInput(): InputChoice | null;
   rememberInput(input: InputChoice): void;
+  /** The remembered knob values of this document (optional: the bench keeps none). */
+  recallKnobs?(): unknown;
+  rememberKnobs?(knobs: StoredKnobs): void;
   /** Optional editor actions (absent in the bench). */
   pickImage?(): Promise<string | null>;
   applyEdits?(edits: readonly OffsetEdit[], text: string): Promise<boolean>;
   reveal?(range: WireRange): void;
   log?(line: string): void;
+}
+
+/**
+ * Knob values the user moved, remembered per file with the file's own values at the time: after a reload a moved
+ * knob comes back only while the file still declares the value it was moved from.
+ */
+export interface StoredKnobs {
+  readonly values: Readonly<Record<string, number>>;
+  readonly dt: number | null;
+  readonly declared: Readonly<Record<string, number>>;
+  readonly declaredDt: number;
+}
+
+function storedKnobs(v: unknown): StoredKnobs | null {
+  if (typeof v !== 'object' || v === null) return null;
+  const o = v as Record<string, unknown>;
+  const rec = (x: unknown): Record<string, number> | null =>
+    typeof x === 'object' && x !== null && Object.values(x).every((n) => typeof n === 'number' && Number.isFinite(n)) ? { ...(x as Record<string, number>) } : null;
+  const values = rec(o.values);
+  const declared = rec(o.declared);
+  const dt = o.dt === null || (typeof o.dt === 'number' && o.dt > 0) ? (o.dt as number | null) : undefined;
+  if (!values || !declared || dt === undefined || typeof o.declaredDt !== 'number') return null;
+  return { values, dt, declared, declaredDt: o.declaredDt };
 }
 
 /** A step longer than this is "long": cancelling then terminates the worker instead of waiting (contracts §5). */
@@ -130,8 +156,16 @@ export class PreviewSession {
   private waiting: (() => void) | null = null;
   private disposed = false;
 
+  /** Knob values remembered from an earlier session, applied at the first successful check. */
+  private recalled: StoredKnobs | null;
+
   constructor(private readonly env: SessionEnv) {
     this.input = env.recallInput() ?? DEFAULT_INPUT;
+    this.recalled = storedKnobs(env.recallKnobs?.());
+  }
+
+  private rememberKnobs(): void {
+    this.env.rememberKnobs?.({ values: { ...this.overrides }, dt: this.dtOverride, declared: Object.fromEntries(this.declared), declaredDt: this.declaredDt });
   }
 
   /** The document changed (or was opened): check it now or after the debounce window. */
@@ -186,6 +220,13 @@ export class PreviewSession {
     this.declared = new Map(scheme.params.map((p) => [p.name, p.value]));
     this.declaredDt = scheme.dt;
     for (const k of Object.keys(this.overrides)) if (!this.declared.has(k)) delete this.overrides[k];
+    if (this.recalled) {
+      const r = this.recalled;
+      this.recalled = null;
+      for (const p of scheme.params) if (r.values[p.name] !== undefined && r.declared[p.name] === p.value) this.overrides[p.name] = r.values[p.name];
+      if (r.dt !== null && r.declaredDt === scheme.dt) this.dtOverride = r.dt;
+    }
+    this.rememberKnobs();
     this.good = { text, scheme };
     this.postScheme();
     this.startRun();
@@ -450,6 +491,7 @@ export class PreviewSession {
           else this.overrides[p.name] = v;
         }
         this.dtOverride = msg.dt === s.dt ? null : msg.dt;
+        this.rememberKnobs();
         this.startRun();
         return;
       }

@@ -60,7 +60,7 @@ function stats(step: number): FrameStats {
   return { step, t: step * 0.2, fields: { u: { min: 0, max: 1, mean: 0.5 } }, psnr: 20 + step };
 }
 
-function setup(opts: { debounceMs?: number; input?: InputChoice } = {}) {
+function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown } = {}) {
   const posted: ToPreview.Type[] = [];
   const runs: FakeRun[] = [];
   const engines: FakeEngine[] = [];
@@ -82,6 +82,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice } = {}) {
   const edits: { edits: unknown; text: string }[] = [];
   const revealed: unknown[] = [];
   const remembered: InputChoice[] = [];
+  const rememberedKnobs: unknown[] = [];
   const env: SessionEnv = {
     source: 'file:///w/a.fluxel',
     fileName: 'a.fluxel',
@@ -96,13 +97,15 @@ function setup(opts: { debounceMs?: number; input?: InputChoice } = {}) {
     readImage: async () => ({ width: 8, height: 4, data: new Float32Array(32).fill(0.25) }),
     recallInput: () => opts.input ?? null,
     rememberInput: (i) => remembered.push(i),
+    recallKnobs: () => opts.knobs,
+    rememberKnobs: (k) => rememberedKnobs.push(k),
     pickImage: async () => 'file:///w/pic.png',
     applyEdits: async (e, text) => { edits.push({ edits: e, text }); return true; },
     reveal: (r) => revealed.push(r),
   };
   const session = new PreviewSession(env);
   const of = <T extends ToPreview.Type['type']>(type: T) => posted.filter((m): m is Extract<ToPreview.Type, { type: T }> => m.type === type);
-  return { session, posted, runs, engines, weightsCalls, edits, revealed, remembered, of };
+  return { session, posted, runs, engines, weightsCalls, edits, revealed, remembered, rememberedKnobs, of };
 }
 
 /** Lets pending promise callbacks run (no timers involved). */
@@ -244,6 +247,30 @@ describe('live run session', async () => {
     await settle();
     expect(runs[3].options).toMatchObject({ params: { K: 0.25 }, dt: 0.1 });
     expect(of('scheme').at(-1)?.current).toEqual({ values: { K: 0.25 }, dt: 0.1 });
+  });
+
+  it('remembers moved knobs per file, and brings them back only while the file declares what they were moved from', async () => {
+    const first = setup();
+    first.session.documentChanged(SCHEME);
+    await settle();
+    await first.session.handle({ type: 'setKnobs', source: 'file:///w/a.fluxel', values: { K: 0.7 }, dt: 0.1 });
+    const stored = first.rememberedKnobs.at(-1);
+    expect(stored).toEqual({ values: { K: 0.7 }, dt: 0.1, declared: { K: 0.5 }, declaredDt: 0.2 });
+
+    const again = setup({ knobs: stored });
+    again.session.documentChanged(SCHEME);
+    await settle();
+    expect(again.runs[0].options).toMatchObject({ params: { K: 0.7 }, dt: 0.1 });
+
+    const edited = setup({ knobs: stored });
+    edited.session.documentChanged(SCHEME.replace('K = 0.5', 'K = 0.4').replace('dt = 0.2', 'dt = 0.25'));
+    await settle();
+    expect(edited.runs[0].options).toMatchObject({ params: { K: 0.4 }, dt: 0.25 });
+
+    const garbage = setup({ knobs: { values: { K: 'x' } } });
+    garbage.session.documentChanged(SCHEME);
+    await settle();
+    expect(garbage.runs[0].options).toMatchObject({ params: { K: 0.5 }, dt: 0.2 });
   });
 
   it('computes weights from the full-resolution state of the picked step', async () => {
