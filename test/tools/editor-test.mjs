@@ -95,9 +95,9 @@ await page.exposeFunction('codeAutomationExit', (code) => { exitCode = code; });
 
 /** What the suite cannot see through the API: answered into the JSON file it named, which it polls for. */
 async function handleProbe(kind, file, extra) {
-  const poll = async (fn, what) => {
+  const poll = async (fn, what, guardMs = 40000) => {
     const t = Date.now();
-    while (Date.now() - t < 40000) { const v = await fn(); if (v) return v; await page.waitForTimeout(100); }
+    while (Date.now() - t < guardMs) { const v = await fn(); if (v) return v; await page.waitForTimeout(100); }
     await page.screenshot({ path: join(OUT, `probe-failed-${kind}.png`) }).catch(() => {});
     throw new Error(`${what} never appeared (screen: test/out/editor/probe-failed-${kind}.png)`);
   };
@@ -132,9 +132,10 @@ async function handleProbe(kind, file, extra) {
   } else if (kind === 'row') {
     // A row of a list whose text contains `extra` (e.g. Fluxel in Running Extensions, which may open as a modal
     // editor). Long lists render only the rows in view, so scroll down between looks until the row is rendered.
+    let scrolls = 0;
     answer = await poll(async () => {
       const found = await page.evaluate((w) => {
-        const rows = [...document.querySelectorAll('.monaco-list-row')].filter((r) => /Activation/.test(r.innerText)).map((r) => ({
+        const rows = [...document.querySelectorAll('.monaco-list-row, [role="listitem"], [role="treeitem"]')].filter((r) => /Activation/.test(r.innerText)).map((r) => ({
           text: r.innerText.replace(/\s+/g, ' '),
           titles: [...r.querySelectorAll('[title], [aria-label]')].map((e) => e.getAttribute('title') || e.getAttribute('aria-label')).filter(Boolean),
         }));
@@ -143,12 +144,17 @@ async function handleProbe(kind, file, extra) {
       }, extra);
       if (found) return found;
       const box = await page.evaluate(() => {
-        const r = [...document.querySelectorAll('.monaco-list-row')].find((e) => /Activation/.test(e.innerText))?.getBoundingClientRect();
+        const r = [...document.querySelectorAll('.monaco-list-row, [role="listitem"], [role="treeitem"]')].find((e) => /Activation/.test(e.innerText))?.getBoundingClientRect();
         return r ? { x: r.x + r.width / 2, y: r.y + r.height / 2 } : null;
       });
-      if (box) { await page.mouse.move(box.x, box.y); await page.mouse.wheel(0, 300); }
+      // Down through the list, then back to the top and down again.
+      if (box) { await page.mouse.move(box.x, box.y); await page.mouse.wheel(0, (scrolls++ % 20) === 19 ? -10000 : 300); }
       return null;
-    }, `a list row with "${extra}"`);
+    }, `a list row with "${extra}"`, 30000).catch(async () => ({
+      // Best effort: the editor's own figure is informative, not a condition of the suite.
+      text: null,
+      others: await page.evaluate(() => [...document.querySelectorAll('.monaco-list-row, [role="listitem"], [role="treeitem"]')].map((r) => r.innerText.replace(/\s+/g, ' ')).filter((t) => /Activation/.test(t))),
+    }));
   } else if (kind === 'liverun') {
     answer = await liveRunProbe(page, extra, OUT);
   } else throw new Error(`unknown probe ${kind}`);
