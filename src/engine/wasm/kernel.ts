@@ -275,7 +275,6 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
         fb.simd(Simd.shuffle);
         for (let k = 0; k < 16; k++) fb.code.u8(16 - bytes + k);
         fb.simd(T.neg);
-        fb.get(vLocal.get(a[0]) as number).set(c);
         break;
       }
       case 'reusey': {
@@ -354,6 +353,13 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
           fb.get(nan[k]).get(sv).get(sv).simd(T.ne).simd(Simd.or).set(nan[k]);
         }
       });
+      // This vector's forward horizontal fluxes, for the next vector (after every reuse in this one read the old).
+      if (!directX) {
+        for (const [f, c] of carry) {
+          emit(f);
+          fb.set(c);
+        }
+      }
       // This row's forward vertical fluxes, for the next row (after this vector read the row above's).
       for (const [f, slot] of rowSlot) {
         fb.get(rowAt);
