@@ -87,7 +87,8 @@ export function exportC(ir: ExportIR, o: ExportOptions): string {
 
   // The halo plan: blur radii from the params, then the engine's backwards extents.
   const sig = scalarValues(ir, blurLets.map(k => (ir.lets[k] as { sigma: number }).sigma), lo);
-  const paramLocals = ir.params.map((_, k) => `const double fx_p${k} = p->${paramNames[k]};`);
+  // Every kernel reads its params from locals; the (void) keeps -Wall quiet where a function does not use one.
+  const paramLocals = ir.params.map((_, k) => `const double fx_p${k} = p->${paramNames[k]}; (void)fx_p${k};`);
   out.push(
     '/* Blur widths and radii, let extents and the halo for these params (returns -1 for a bad blur width). */',
     `static int fx_plan(const ${P}_params *p, double dt, double *fx_sigma, ptrdiff_t *fx_rad, ptrdiff_t *fx_ext, ptrdiff_t *fx_halo) {`,

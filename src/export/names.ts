@@ -19,8 +19,9 @@ const RESERVED: Record<Target, ReadonlySet<string>> = {
 
 /**
  * Public names for the user's fields and params in one target: the spelling reduced to [A-Za-z0-9_] (the
- * notation's identifiers already are), a trailing `_` added while it is a keyword, starts with our internal
- * prefix `fx_`, or is taken. Internal names all start with `fx_`, so they never meet a user's name.
+ * notation's identifiers already are), `user_` put before names starting with our internal prefix `fx_` (or `__`),
+ * and a trailing `_` added while it is a keyword or taken. Internal names all start with `fx_`, so they never
+ * meet a user's name.
  */
 export class PublicNames {
   private readonly taken = new Set<string>();
@@ -28,7 +29,9 @@ export class PublicNames {
   name(original: string): string {
     let s = original.replace(/[^A-Za-z0-9_]/g, '_');
     if (!/^[A-Za-z_]/.test(s)) s = `n_${s}`;
-    while (RESERVED[this.target].has(s) || /^fx_/i.test(s) || this.taken.has(s) || (this.target !== 'c' && s.startsWith('__'))) s += '_';
+    // Our internal prefix and Python's dunder names are moved out of the way by a prefix, keywords by a suffix.
+    if (/^fx_/i.test(s) || s.startsWith('__')) s = `user_${s}`;
+    while (RESERVED[this.target].has(s) || this.taken.has(s)) s += '_';
     this.taken.add(s);
     return s;
   }

@@ -32,9 +32,13 @@ export interface Case {
 const SHORT_HORIZON = new Set(['gray-scott.fluxel', 'wave.fluxel']);
 
 export function makeCase(file: string, dtype: DType, maxSteps = Infinity, width = 64, height = 48): Case {
-  const text = readFileSync(join(ROOT, 'examples', file), 'utf8');
+  return caseOf(file, readFileSync(join(ROOT, 'examples', file), 'utf8'), dtype, maxSteps, width, height);
+}
+
+/** A case from scheme text (`file` names it, and gives the C prefix). */
+export function caseOf(file: string, text: string, dtype: DType, maxSteps = Infinity, width = 64, height = 48): Case {
   const r = parseAndCheck(text);
-  if (!r.scheme) throw new Error(`${file} has errors`);
+  if (!r.scheme) throw new Error(`${file} has errors: ${r.diagnostics.map(d => `${d.range.start.line}: ${d.message}`).join('; ')}`);
   const scheme = r.scheme;
   // Our own generated scene (contracts: demo data from our code only), with noise so edges and flats both matter.
   const scene = makeScene('survey', { width, height, noise: 0.05, seed: 7 });
@@ -138,12 +142,12 @@ export async function jsResult(c: Case, dir: string): Promise<FieldValues> {
  * `mode` 'threads' uses Dask's local threaded scheduler; 'distributed' a dask.distributed LocalCluster.
  * Returns per case the NumPy result and the Dask result.
  */
-export function pythonResults(cases: readonly Case[], dir: string, mode: 'threads' | 'distributed', chunks: [number, number] = [17, 23]): { numpy: FieldValues; dask: FieldValues }[] {
+export function pythonResults(cases: readonly Case[], dir: string, mode: 'threads' | 'distributed', chunks: [number, number] = [17, 23], numpyOnly = false): { numpy: FieldValues; dask: FieldValues }[] {
   mkdirSync(dir, { recursive: true });
   const jobs = cases.map((c, j) => {
     const np = join(dir, `np_${j}.py`), dk = join(dir, `dk_${j}.py`);
     writeFileSync(np, exportOf(c, 'numpy'));
-    writeFileSync(dk, exportOf(c, 'dask'));
+    if (!numpyOnly) writeFileSync(dk, exportOf(c, 'dask'));
     const inputs = c.inputs.map((v, k) => {
       if (!v) return null;
       const f = join(dir, `in_${j}_${k}.raw`);
@@ -151,7 +155,7 @@ export function pythonResults(cases: readonly Case[], dir: string, mode: 'thread
       return f;
     });
     return {
-      numpy: np, dask: dk, inputs, shape: [c.height, c.width], steps: c.steps, dtype: c.dtype, chunks,
+      numpy: np, dask: numpyOnly ? null : dk, inputs, shape: [c.height, c.width], steps: c.steps, dtype: c.dtype, chunks,
       outNumpy: c.scheme.fields.map((_, k) => join(dir, `np_${j}_${k}.raw`)),
       outDask: c.scheme.fields.map((_, k) => join(dir, `dk_${j}_${k}.raw`)),
     };
@@ -161,7 +165,7 @@ export function pythonResults(cases: readonly Case[], dir: string, mode: 'thread
   execFileSync(PYTHON, [join(__dirname, 'run_exports.py'), jobFile, mode], { stdio: 'pipe', timeout: 600_000 });
   return cases.map((c, j) => ({
     numpy: jobs[j].outNumpy.map(f => readRaw(f, c.dtype)),
-    dask: jobs[j].outDask.map(f => readRaw(f, c.dtype)),
+    dask: numpyOnly ? [] : jobs[j].outDask.map(f => readRaw(f, c.dtype)),
   }));
 }
 

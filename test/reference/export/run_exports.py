@@ -29,7 +29,6 @@ def main():
         dt = np.dtype(job['dtype'])
         shape = tuple(job['shape'])
         npm = load(job['numpy'], 'np_%d' % j)
-        dkm = load(job['dask'], 'dk_%d' % j)
         start = list(npm.init(shape))
         for k, f in enumerate(job['inputs']):
             if f is not None:
@@ -37,6 +36,9 @@ def main():
         out = npm.run(*start, steps=job['steps'])
         for k, f in enumerate(job['outNumpy']):
             np.asarray(out[k], dtype=dt).tofile(f)
+        if job['dask'] is None:
+            continue
+        dkm = load(job['dask'], 'dk_%d' % j)
         # The Dask start: dask_init for fields with initial values (built per chunk), the same input elsewhere.
         dstart = list(dkm.dask_init(shape, tuple(job['chunks'])))
         for k, f in enumerate(job['inputs']):
