@@ -54,12 +54,12 @@ export function exportC(ir: ExportIR, o: ExportOptions): string {
   out.push(`} ${P}_params;`, '');
   const defaults = ir.params.length ? ir.params.map(p => numberLiteral(p.value, 'c')).join(', ') : '0';
   out.push(
-    `static const ${P}_params ${P}_defaults = { ${defaults} };`,
+    `const ${P}_params ${P}_defaults = { ${defaults} };`,
     `#define ${P.toUpperCase()}_DT ${numberLiteral(ir.dt, 'c')}`,
     `#define ${P.toUpperCase()}_STEPS ${intLiteral(ir.steps)}`,
     '',
     ...C_MATH_HELPERS,
-    'static ptrdiff_t fx_imax(ptrdiff_t a, ptrdiff_t b) { return a > b ? a : b; }',
+    'static inline ptrdiff_t fx_imax(ptrdiff_t a, ptrdiff_t b) { return a > b ? a : b; }',
     '',
     '/* The interior index whose value a ghost cell takes: reflect folds about the cell edges (period 2n), periodic wraps. */',
     'static ptrdiff_t fx_fold(ptrdiff_t i, ptrdiff_t n, int periodic) {',

@@ -49,9 +49,9 @@ function opText(op: OpName, a: readonly string[], lang: LoopLang): string {
 
 /** C prologue helpers giving JavaScript's Math.sign/min/max results (NaN in, NaN out; -0 below +0). */
 export const C_MATH_HELPERS = [
-  'static double fx_sign(double a) { return a > 0 ? 1.0 : a < 0 ? -1.0 : a; }',
-  'static double fx_min(double a, double b) { if (a != a || b != b) return NAN; if (a == b) return signbit(a) ? a : b; return a < b ? a : b; }',
-  'static double fx_max(double a, double b) { if (a != a || b != b) return NAN; if (a == b) return signbit(a) ? b : a; return a > b ? a : b; }',
+  'static inline double fx_sign(double a) { return a > 0 ? 1.0 : a < 0 ? -1.0 : a; }',
+  'static inline double fx_min(double a, double b) { if (a != a || b != b) return NAN; if (a == b) return signbit(a) ? a : b; return a < b ? a : b; }',
+  'static inline double fx_max(double a, double b) { if (a != a || b != b) return NAN; if (a == b) return signbit(a) ? b : a; return a > b ? a : b; }',
 ];
 
 /** Statements of one kernel: invariant ones before the pixel loops, the rest inside. */
