@@ -11,7 +11,7 @@ import { divergingCss, divergingTable, labToRgb, luminance, NEGATIVE_END, POSITI
 import { restoreState, type UiState } from './state';
 import {
   changeScale, findingLine, findingText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint,
-  panBy, seriesOf, seriesSummary, SLIDER_STEPS, sliderFromValue, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt, type ViewMode, type ViewTransform,
+  panBy, seriesOf, seriesSummary, SLIDER_STEPS, sliderFromValue, spaceTimeRepeat, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt, type ViewMode, type ViewTransform,
 } from './viewModel';
 
 // ------------------------------------------------------------------------------------------------ host link
@@ -204,11 +204,23 @@ function fitView(): void {
   save({ zoom: null });
 }
 
-/** 1-D schemes draw a space–time picture: one row per recorded step. */
+/** 1-D schemes draw a space–time picture: one band of `rowRepeat()` rows per recorded step. */
+function stepRows(): number {
+  const s = store.started;
+  return s ? Math.ceil(s.steps / Math.max(1, s.every)) + 1 : 1;
+}
+
+function rowRepeat(): number {
+  const s = store.started;
+  if (!s || s.height !== 1) return 1;
+  const { w, hgt } = canvasSize();
+  return spaceTimeRepeat(w, hgt, s.frameWidth, stepRows());
+}
+
 function spaceTimeRows(): number {
   const s = store.started;
   if (!s) return 1;
-  return s.height === 1 ? Math.ceil(s.steps / Math.max(1, s.every)) + 1 : s.frameHeight;
+  return s.height === 1 ? stepRows() * rowRepeat() : s.frameHeight;
 }
 
 function draw(): void {
@@ -229,8 +241,9 @@ function draw(): void {
   const f0 = store.frames[0];
   if (!s || !f || !f0) return;
   const oneD = s.height === 1;
+  const rep = rowRepeat();
   const fw = f.width;
-  const fh = oneD ? current + 1 : f.height;
+  const fh = oneD ? (current + 1) * rep : f.height;
   if (!transform || fitted) fitView();
   const t = transform as ViewTransform;
   off.width = fw;
@@ -238,13 +251,13 @@ function draw(): void {
   const octx = off.getContext('2d');
   if (!octx) return;
   if (oneD) {
-    // Rows 0..current of the space–time picture; each row is one recorded step.
-    const img = octx.createImageData(fw, current + 1);
+    // Bands 0..current of the space–time picture; each band is one recorded step, `rep` rows high.
+    const img = octx.createImageData(fw, fh);
     const scale = state.view === 'change' ? Math.max(1e-300, ...store.frames.slice(0, current + 1).map((fr) => changeScale(fr.data, f0.data))) : 0;
+    const row = new Uint8ClampedArray(fw * 4);
     for (let r = 0; r <= current; r++) {
-      const row = new Uint8ClampedArray(fw * 4);
       paint(row, state.view, store.frames[r].data, f0.data, win, diverging, scale);
-      img.data.set(row, r * fw * 4);
+      for (let k = 0; k < rep; k++) img.data.set(row, (r * rep + k) * fw * 4);
     }
     octx.putImageData(img, 0, 0);
   } else {
@@ -257,7 +270,7 @@ function draw(): void {
   // The picked pixel: one accent ring, at least a few screen pixels wide.
   if (state.picked) {
     const p = framePixelOf(state.picked.x, state.picked.y, s);
-    const py = oneD ? current : p.fy;
+    const py = oneD ? current * rep + (rep - 1) / 2 : p.fy;
     const size = Math.max(t.scale, 7);
     const cx = t.offsetX + (p.fx + 0.5) * t.scale;
     const cy = t.offsetY + (py + 0.5) * t.scale;
@@ -318,9 +331,10 @@ function pixelUnder(sx: number, sy: number): { x: number; y: number; value: numb
   const f = store.frames[current];
   if (!s || !f || !transform) return null;
   const oneD = s.height === 1;
-  const p = framePixelAt(transform, sx, sy, f.width, oneD ? current + 1 : f.height);
+  const rep = rowRepeat();
+  const p = framePixelAt(transform, sx, sy, f.width, oneD ? (current + 1) * rep : f.height);
   if (!p) return null;
-  const frame = oneD ? store.frames[p.fy] : f;
+  const frame = oneD ? store.frames[Math.floor(p.fy / rep)] : f;
   const full = fullPixel(p.fx, oneD ? 0 : p.fy, s);
   const base = store.frames[0];
   const v = frame.data[(oneD ? 0 : p.fy) * f.width + p.fx];
@@ -615,6 +629,14 @@ function mark(): void {
   b.findings = String(store.findings.length);
   b.view = state.view;
   b.weights = weights ? `${weights.x},${weights.y},${weights.step}` : '';
+  // The shown frame's mean as sent by the host and as held by the page, and the first frame's (cheap checks that the
+  // page draws what the host sent; computed once the run has ended).
+  const f = store.frames[current];
+  const f0 = store.frames[0];
+  if (store.ended && f && f0) {
+    const mean = (d: Float32Array) => d.reduce((a, v) => a + v, 0) / Math.max(1, d.length);
+    b.check = `${fmt(f.stats.mean, 6)}|${fmt(mean(f.data), 6)}|${fmt(mean(f0.data), 6)}|${current}|${store.frames.map((x) => x.step).join(',')}`;
+  }
 }
 
 function onMessage(msg: ToPreview.Type): void {

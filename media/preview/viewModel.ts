@@ -165,6 +165,15 @@ export function framePixelOf(x: number, y: number, s: { width: number; height: n
   return { fx: Math.floor(x / k), fy: Math.floor(y / k) };
 }
 
+/**
+ * Rows per recorded step in a 1-D space–time picture, so the picture has roughly the stage's shape instead of a
+ * thin strip (width cells wide, `steps` bands high).
+ */
+export function spaceTimeRepeat(stageW: number, stageH: number, width: number, steps: number): number {
+  if (!(stageW > 0 && stageH > 0 && width > 0 && steps > 0)) return 1;
+  return Math.max(1, Math.min(64, Math.round((stageH / stageW) * width / steps)));
+}
+
 // ------------------------------------------------------------------------------------------------ labels
 
 /** A number in at most `digits` significant digits, without trailing zeros; exponents for tiny or huge values. */

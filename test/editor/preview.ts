@@ -26,6 +26,8 @@ async function openWithLiveRun(name: string, text?: string): Promise<vscode.Text
 }
 
 interface StateAnswer {
+  check?: string;
+  step: string;
   runId: string; frames: string; status: string; nowColours: number; startColours: number; changeColours: number; painted: number; meanAbsDiff: number;
   canvas: { width: number; height: number };
 }
@@ -38,7 +40,7 @@ function register(): void {
     assert.equal(s.status, 'done');
     assert.ok(s.painted > 0.3, `the picture covers the canvas (${s.painted})`);
     assert.ok(s.nowColours > 20, `the frame has many grey levels (${s.nowColours}), so it is not blank`);
-    assert.ok(s.meanAbsDiff > 0.5, `the last frame differs from the input (${s.meanAbsDiff})`);
+    assert.ok(s.meanAbsDiff > 0.5, `the last frame differs from the input (${s.meanAbsDiff}; step ${s.step}; host mean | page mean | first frame mean | index | steps: ${s.check})`);
     assert.ok(s.changeColours > 5, `the change view is coloured (${s.changeColours})`);
   });
 
@@ -112,6 +114,15 @@ function register(): void {
     assert.ok(!sel.isEmpty, 'the range of the update is selected');
     assert.match(f.text, /step \d+ at \(\d+, \d+\)/);
     assert.ok(f.weights.length > 0, 'the finding pixel was picked and its weights arrived');
+  });
+
+  test('a 1-D scheme shows a space–time picture, one row per step', async () => {
+    await openWithLiveRun('heat-1d.fluxel');
+    const s = await probe<StateAnswer>('liverun', JSON.stringify({ action: 'state', minFrames: 51, done: true }));
+    info(`1-D live run: ${s.frames} frames, ${s.nowColours} colours now, mean |now − start| ${s.meanAbsDiff.toFixed(2)}`);
+    assert.ok(s.painted > 0.3, `the space–time picture covers the canvas (${s.painted})`);
+    assert.ok(s.nowColours > 20, `it has many grey levels (${s.nowColours})`);
+    assert.ok(s.meanAbsDiff > 0.5, 'rows after the first differ from the start');
   });
 
   test('screenshots of the live run in the dark and light themes have content', async () => {

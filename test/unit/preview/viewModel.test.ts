@@ -6,7 +6,7 @@ import type { ToPreview, WireVerdict } from '../../../src/protocol/preview';
 import { divergingTable } from '../../../media/preview/colour';
 import {
   changeScale, findingText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint, panBy,
-  seriesOf, seriesSummary, sliderFromValue, SLIDER_STEPS, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt,
+  seriesOf, seriesSummary, sliderFromValue, SLIDER_STEPS, spaceTimeRepeat, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt,
 } from '../../../media/preview/viewModel';
 
 const src = 'file:///a.fluxel';
@@ -109,6 +109,15 @@ describe('zoom and pan', () => {
     expect(fullPixel(499, 299, s)).toEqual({ x: 999, y: 599 });
     const same = { width: 64, height: 64, frameWidth: 64, frameHeight: 64 };
     expect(fullPixel(5, 6, same)).toEqual({ x: 5, y: 6 });
+  });
+});
+
+describe('1-D space–time picture', () => {
+  it('repeats each step so the picture takes about the stage shape', () => {
+    expect(spaceTimeRepeat(240, 260, 256, 51)).toBe(5);
+    expect(spaceTimeRepeat(400, 100, 256, 500)).toBe(1);
+    expect(spaceTimeRepeat(100, 4000, 256, 2)).toBe(64);
+    expect(spaceTimeRepeat(0, 100, 256, 10)).toBe(1);
   });
 });
 
