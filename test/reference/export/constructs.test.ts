@@ -7,7 +7,7 @@
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { afterAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { exportScheme } from '../../../src/export';
 import { caseOf, cResult, differences, engineResult, jsResult, pythonResults, relError, type Case, type FieldValues } from './harness';
 
@@ -96,7 +96,11 @@ describe('constructs beyond the examples, every target vs the engine', () => {
   const sink64 = caseOf('kitchen-sink.fluxel', KITCHEN_SINK, 'float64');
   const wide1 = caseOf('wide-1d.fluxel', WIDE_1D, 'float64', Infinity, 5, 1);
   const wide2 = caseOf('wide-2d.fluxel', WIDE_2D, 'float64', Infinity, 5, 3);
-  const py = pythonResults([sink32, sink64, wide1, wide2], join(dir, 'py'), 'threads', [7, 9]);
+  // 7×9 chunks: the kitchen sink's halo is 7 (q read at radius 2 ← w at 1 ← blur radius 3 ← m at 1), so blocks are no wider than it.
+  let py: { numpy: FieldValues; dask: FieldValues }[] = [];
+  beforeAll(() => {
+    py = pythonResults([sink32, sink64, wide1, wide2], join(dir, 'py'), 'threads', [7, 9]);
+  }, 900_000);
 
   it('kitchen sink, Float32 storage: C, JS, NumPy within 1e-5; Dask equals NumPy', () => allTargets(sink32, 'sink32', py[0], 1e-5));
   it('kitchen sink, Float64: within 1e-12', () => allTargets(sink64, 'sink64', py[1], 1e-12));
