@@ -21,10 +21,13 @@ const BINARY_PREC: Record<string, number> = {
 /** Prefix operators: `not` sits between `and` and comparisons; unary minus binds tighter than `*` but looser than `^`. */
 const PREFIX_PREC: Record<string, number> = { not: 3, '-': 7, '+': 7 };
 
-interface Operand {
+/** An operand with prefix operators; an operand without any is just its expression (no wrapper is allocated). */
+interface Prefixed {
+  readonly kind: '$prefixed';
   readonly prefixes: IToken[];
   readonly base: A.Expr;
 }
+type Operand = A.Expr | Prefixed;
 
 const PLACEHOLDER: A.SourceRange = { start: { offset: 0, line: 1, column: 1 }, end: { offset: 0, line: 1, column: 1 } };
 
@@ -40,8 +43,8 @@ class FluxelParser extends EmbeddedActionsParser {
   /** Parenthesised expressions, so `(a < b) < c` is not reported as a chain. */
   private parenthesised = new WeakSet<A.Expr>();
 
-  constructor() {
-    super(T.allTokens, { recoveryEnabled: true, maxLookahead: 3 });
+  constructor(recovery: boolean) {
+    super(T.allTokens, { recoveryEnabled: recovery, maxLookahead: 3 });
     this.performSelfAnalysis();
   }
 
@@ -279,11 +282,10 @@ class FluxelParser extends EmbeddedActionsParser {
     const comps: A.Expr[] = [];
     this.AT_LEAST_ONE_SEP({ SEP: T.Comma, DEF: () => { comps.push(this.SUBRULE(this.expression)); } });
     const close = this.CONSUME(T.RBracket);
-    return this.ACTION(() => {
-      const last = comps[comps.length - 1];
-      const end = usable(close) ? this.tr(close) : last ? last.range : this.tr(open);
-      return { components: comps, range: this.span(this.tr(open), end) };
-    });
+    if (this.RECORDING_PHASE) return undefined as never;
+    const last = comps[comps.length - 1];
+    const end = usable(close) ? this.tr(close) : last ? last.range : this.tr(open);
+    return { components: comps, range: this.span(this.tr(open), end) };
   }, { recoveryValueFunc: () => null });
 
   updateDecl = this.RULE('updateDecl', (): A.Decl | null => {
@@ -311,24 +313,27 @@ class FluxelParser extends EmbeddedActionsParser {
 
   /** Operands separated by binary operators; the tree is built by precedence climbing. */
   expression = this.RULE('expression', (): A.Expr => {
-    const operands: Operand[] = [this.SUBRULE(this.operand)];
-    const ops: IToken[] = [];
+    const first = this.SUBRULE(this.operand);
+    // Most expressions are one operand: the lists are only allocated when an operator follows.
+    let operands: Operand[] | null = null;
+    let ops: IToken[] | null = null;
     this.MANY(() => {
-      ops.push(this.CONSUME(T.BinaryOp));
-      operands.push(this.SUBRULE2(this.operand));
+      (ops ??= []).push(this.CONSUME(T.BinaryOp));
+      (operands ??= [first]).push(this.SUBRULE2(this.operand));
     });
-    return this.ACTION(() => this.climbAll(operands, ops));
+    if (this.RECORDING_PHASE) return undefined as never;
+    return (operands && ops ? this.climbAll(operands, ops) : this.applyPrefixes(first, null));
   }, { recoveryValueFunc: (e) => this.errorAt(e) });
 
   /** Prefix operators (`not`, unary `-`/`+`) followed by a power. */
   operand = this.RULE('operand', (): Operand => {
-    const prefixes: IToken[] = [];
+    let prefixes: IToken[] | null = null;
     this.MANY(() => {
-      prefixes.push(this.CONSUME(T.PrefixOp));
+      (prefixes ??= []).push(this.CONSUME(T.PrefixOp));
     });
     const base = this.SUBRULE(this.power);
-    return { prefixes, base };
-  }, { recoveryValueFunc: (e) => ({ prefixes: [], base: this.errorAt(e) }) });
+    return prefixes ? { kind: '$prefixed', prefixes, base } : base;
+  }, { recoveryValueFunc: (e) => this.errorAt(e) });
 
   // `^` is right-associative and its exponent may carry a sign: `a^b^c` is a^(b^c), `2^-1` is allowed, `-s^2` is -(s^2).
   power = this.RULE('power', (): A.Expr => {
@@ -338,18 +343,23 @@ class FluxelParser extends EmbeddedActionsParser {
       const rhs = this.SUBRULE(this.operand);
       return { caret, rhs };
     });
-    return this.ACTION((): A.Expr => {
-      if (!exp) return base;
-      const right = this.applyPrefixes(exp.rhs, () => null);
-      return { kind: 'binary', op: '^', left: base, right, opRange: this.tr(exp.caret), range: this.span(base.range, right.range) };
-    });
+    if (this.RECORDING_PHASE) return undefined as never;
+    if (!exp) return base;
+    const right = this.applyPrefixes(exp.rhs, null);
+    return { kind: 'binary', op: '^', left: base, right, opRange: this.tr(exp.caret), range: this.span(base.range, right.range) };
   }, { recoveryValueFunc: (e) => this.errorAt(e) });
 
   // The alternatives are built once: an inline array of closures would be allocated for every operand.
   private primaryAlts?: IOrAlt<A.Expr>[];
 
   primary = this.RULE('primary', (): A.Expr => this.OR(this.primaryAlts ??= [
-    { ALT: () => { const t = this.CONSUME(T.NumberLit); return this.ACTION((): A.Expr => ({ kind: 'number', value: Number(t.image), range: this.tr(t) })); } },
+    {
+      ALT: () => {
+        const t = this.CONSUME(T.NumberLit);
+        if (this.RECORDING_PHASE) return undefined as never;
+        return { kind: 'number', value: Number(t.image), range: this.tr(t) };
+      },
+    },
     { ALT: () => this.SUBRULE(this.parenExpr) },
     { ALT: () => this.SUBRULE(this.ifExpr) },
     { ALT: () => this.SUBRULE(this.reduceOrMinMax) },
@@ -360,12 +370,11 @@ class FluxelParser extends EmbeddedActionsParser {
     const open = this.CONSUME(T.LParen);
     const inner = this.SUBRULE(this.expression);
     const close = this.CONSUME(T.RParen);
-    return this.ACTION(() => {
-      // Keep the parenthesised range, so diagnostics underline what the user wrote.
-      const e = { ...inner, range: this.span(this.tr(open), usable(close) ? this.tr(close) : inner.range) } as A.Expr;
-      this.parenthesised.add(e);
-      return e;
-    });
+    if (this.RECORDING_PHASE) return undefined as never;
+    // Keep the parenthesised range, so diagnostics underline what the user wrote.
+    const e = { ...inner, range: this.span(this.tr(open), usable(close) ? this.tr(close) : inner.range) } as A.Expr;
+    this.parenthesised.add(e);
+    return e;
   }, { recoveryValueFunc: (e) => this.errorAt(e) });
 
   ifExpr = this.RULE('ifExpr', (): A.Expr => {
@@ -429,20 +438,19 @@ class FluxelParser extends EmbeddedActionsParser {
         },
       },
     ]));
-    return this.ACTION((): A.Expr => {
-      const idRange = this.tr(id);
-      if (!suffix) return { kind: 'name', name: id.image, range: idRange };
-      if (suffix.call) return { kind: 'call', callee: id.image, calleeRange: idRange, args: suffix.call.args, range: this.span(idRange, suffix.call.range) };
-      const end = suffix.offset?.range ?? (suffix.prime ? this.tr(suffix.prime) : idRange);
-      let offset: A.OffsetSpec | null = null;
-      if (suffix.offset) {
-        const c = suffix.offset.components;
-        offset = c.length === 1 && c[0].kind === 'name'
-          ? { kind: 'variable', name: c[0].name, range: suffix.offset.range }
-          : { kind: 'literal', components: c, range: suffix.offset.range };
-      }
-      return { kind: 'access', target: id.image, targetRange: idRange, offset, primed: !!suffix.prime, range: this.span(idRange, end) };
-    });
+    if (this.RECORDING_PHASE) return undefined as never;
+    const idRange = this.tr(id);
+    if (!suffix) return { kind: 'name', name: id.image, range: idRange };
+    if (suffix.call) return { kind: 'call', callee: id.image, calleeRange: idRange, args: suffix.call.args, range: this.span(idRange, suffix.call.range) };
+    const end = suffix.offset?.range ?? (suffix.prime ? this.tr(suffix.prime) : idRange);
+    let offset: A.OffsetSpec | null = null;
+    if (suffix.offset) {
+      const c = suffix.offset.components;
+      offset = c.length === 1 && c[0].kind === 'name'
+        ? { kind: 'variable', name: c[0].name, range: suffix.offset.range }
+        : { kind: 'literal', components: c, range: suffix.offset.range };
+    }
+    return { kind: 'access', target: id.image, targetRange: idRange, offset, primed: !!suffix.prime, range: this.span(idRange, end) };
   }, { recoveryValueFunc: (e) => this.errorAt(e) });
 
   callArgs = this.RULE('callArgs', (): { args: A.Expr[]; range: A.SourceRange } => {
@@ -450,10 +458,9 @@ class FluxelParser extends EmbeddedActionsParser {
     const args: A.Expr[] = [];
     this.MANY_SEP({ SEP: T.Comma, DEF: () => { args.push(this.SUBRULE(this.expression)); } });
     const close = this.CONSUME(T.RParen);
-    return this.ACTION(() => {
-      const last = args[args.length - 1];
-      return { args, range: this.span(this.tr(open), usable(close) ? this.tr(close) : last ? last.range : this.tr(open)) };
-    });
+    if (this.RECORDING_PHASE) return undefined as never;
+    const last = args[args.length - 1];
+    return { args, range: this.span(this.tr(open), usable(close) ? this.tr(close) : last ? last.range : this.tr(open)) };
   }, { recoveryValueFunc: () => ({ args: [], range: PLACEHOLDER }) });
 
   // ---------------------------------------------------------------- precedence climbing
@@ -462,7 +469,7 @@ class FluxelParser extends EmbeddedActionsParser {
     let next = 0;
     let j = 0;
     const prec = (t: IToken) => BINARY_PREC[t.image] ?? 0;
-    const operand = (): A.Expr => this.applyPrefixes(operands[next++] ?? { prefixes: [], base: { kind: 'error', range: PLACEHOLDER } }, climb);
+    const operand = (): A.Expr => this.applyPrefixes(operands[next++] ?? { kind: 'error', range: PLACEHOLDER }, climb);
     const climb = (lhs: A.Expr, minPrec: number): A.Expr => {
       while (j < ops.length && prec(ops[j]) > minPrec) {
         const op = ops[j++];
@@ -476,12 +483,13 @@ class FluxelParser extends EmbeddedActionsParser {
   }
 
   /** Applies an operand's prefix operators, innermost first; each absorbs the binary operators that bind tighter than it. */
-  private applyPrefixes(o: Operand, climb: (lhs: A.Expr, minPrec: number) => A.Expr | null): A.Expr {
+  private applyPrefixes(o: Operand, climb: ((lhs: A.Expr, minPrec: number) => A.Expr) | null): A.Expr {
+    if (o.kind !== '$prefixed') return o;
     const go = (k: number): A.Expr => {
       if (k === o.prefixes.length) return o.base;
       const p = o.prefixes[k];
       const inner = go(k + 1);
-      const body = climb(inner, PREFIX_PREC[p.image] ?? 7) ?? inner;
+      const body = climb ? climb(inner, PREFIX_PREC[p.image] ?? 7) : inner;
       return { kind: 'unary', op: p.image as A.UnaryOp, operand: body, range: this.span(this.tr(p), body.range) };
     };
     return go(0);
@@ -497,7 +505,20 @@ class FluxelParser extends EmbeddedActionsParser {
 }
 
 /** The one parser instance; `input` resets it for each parse. */
-const parser = new FluxelParser();
+// Two instances of one grammar: error recovery costs about a third of the parse even on valid input, so a file is
+// first read without it; only a file with syntax errors is read again by the recovering instance, which gives the
+// partial tree and every error it can find.
+const strict = new FluxelParser(false);
+const tolerant = new FluxelParser(true);
+
+function runParser(parser: FluxelParser, tokens: IToken[], lines: LineIndex): FluxelParser {
+  parser.lines = lines;
+  parser.notes = [];
+  parser.collected = [];
+  parser.input = tokens;
+  parser.program();
+  return parser;
+}
 
 export interface SyntaxResult {
   readonly decls: A.Decl[];
@@ -517,11 +538,8 @@ export function parseText(text: string, lines: LineIndex): SyntaxResult {
       message: `Unexpected character ${JSON.stringify(text.slice(e.offset, e.offset + len))}: not part of the notation.`,
     });
   }
-  parser.lines = lines;
-  parser.notes = [];
-  parser.collected = [];
-  parser.input = lexed.tokens;
-  parser.program();
+  let parser = runParser(strict, lexed.tokens, lines);
+  if (parser.errors.length > 0) parser = runParser(tolerant, lexed.tokens, lines);
   const decls = parser.collected;
   for (const e of parser.errors) diagnostics.push(syntaxDiagnostic(e, lines));
   diagnostics.push(...parser.notes);
