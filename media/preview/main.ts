@@ -10,7 +10,7 @@ import { LineChart } from './charts';
 import { divergingCss, divergingTable, labToRgb, luminance, NEGATIVE_END, POSITIVE_END } from './colour';
 import { restoreState, type UiState } from './state';
 import {
-  changeScale, findingLine, findingText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint,
+  changeScale, findingLine, findingText, fitText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint,
   panBy, seriesOf, seriesSummary, SLIDER_STEPS, sliderFromValue, spaceTimeRepeat, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt, type ViewMode, type ViewTransform,
 } from './viewModel';
 
@@ -111,7 +111,11 @@ const fieldRow = h('div', { class: 'row', hidden: '' }, h('label', { for: 'field
 const knobsEl = h('div', { class: 'knobs' });
 const writeBtn = button('write knobs into the file', 'write the knob values into the scheme file (one undoable edit)', () => post({ type: 'writeKnobs', values: knobValues, dt: knobDt }));
 const resetBtn = button('file values', 'set the knobs back to the values in the file', () => resetKnobs());
-const knobsSection = h('section', { class: 'card', 'aria-labelledby': 'knobs-h' }, h('h2', { id: 'knobs-h', text: 'knobs' }), knobsEl, h('div', { class: 'row' }, writeBtn, resetBtn));
+// "fit knobs": the host searches the ranged knobs on the current scene and moves the knobs to what it finds.
+const fitBtn = button('fit knobs', 'fitting needs a scene', () => post({ type: 'fitKnobs' }));
+fitBtn.disabled = true;
+const fitEl = h('p', { class: 'fit-status', role: 'status', 'aria-live': 'polite', hidden: '' });
+const knobsSection = h('section', { class: 'card', 'aria-labelledby': 'knobs-h' }, h('h2', { id: 'knobs-h', text: 'knobs' }), knobsEl, h('div', { class: 'row' }, writeBtn, resetBtn, fitBtn), fitEl);
 const weightsTitle = h('h2', { id: 'weights-h', text: 'weights' });
 const weightsEl = h('div', { class: 'weights', text: 'click a pixel to see the weights it is updated with' });
 const impulseEl = h('div', { class: 'impulse' });
@@ -154,6 +158,8 @@ let win = { lo: 0, hi: 1 };
 let scheme: ToPreview.Scheme | null = null;
 let knobValues: Record<string, number> = {};
 let knobDt = 0;
+/** The newest knob fit's message (older fits' messages are dropped). */
+let fit: ToPreview.Fit | null = null;
 let verdict: ToPreview.Verdict | null = null;
 let weights: ToPreview.Weights | null = null;
 let profile: ToPreview.Profile | null = null;
@@ -629,6 +635,7 @@ function mark(): void {
   b.findings = String(store.findings.length);
   b.view = state.view;
   b.weights = weights ? `${weights.x},${weights.y},${weights.step}` : '';
+  b.fit = fit ? fit.status : '';
   // The shown frame's mean as sent by the host and as held by the page, and the first frame's (cheap checks that the
   // page draws what the host sent; computed once the run has ended).
   const f = store.frames[current];
@@ -654,6 +661,9 @@ function handleMessage(msg: ToPreview.Type): void {
       // The host owns the knob values (and remembers them per file), so a reloaded page simply shows them.
       renderKnobs();
       renderInput(msg.input, msg.inputLabel);
+      fitBtn.disabled = !msg.fit?.ready;
+      fitBtn.title = msg.fit?.note ?? 'fitting is not available';
+      fitBtn.setAttribute('aria-label', `fit knobs: ${fitBtn.title}`);
       fieldSel.replaceChildren(...msg.fields.map((f) => h('option', { value: f, text: f })));
       fieldRow.hidden = msg.fields.length < 2;
       document.title = `Fluxel · ${msg.fileName}`;
@@ -742,6 +752,13 @@ function handleMessage(msg: ToPreview.Type): void {
       return;
     case 'notice':
       showNotice(msg.text, msg.level);
+      return;
+    case 'fit':
+      if (fit && msg.fitId < fit.fitId) return;
+      fit = msg;
+      fitEl.hidden = false;
+      fitEl.textContent = fitText(msg);
+      fitEl.dataset.level = msg.status === 'failed' ? 'error' : 'info';
       return;
   }
 }

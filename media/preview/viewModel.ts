@@ -337,3 +337,25 @@ export function keyAction(key: string): KeyAction | null {
     default: return null;
   }
 }
+
+// ------------------------------------------------------------------------------------------------ knob fit
+
+/** The line under the knobs that tells how a knob fit goes: evaluations while running, then what it found. */
+export function fitText(msg: ToPreview.Fit): string {
+  const metric = msg.metric === 'psnr' ? 'PSNR' : 'SSIM';
+  const show = (v: number) => (msg.metric === 'psnr' ? `${fmt(v, 4)} dB` : fmt(v, 4));
+  switch (msg.status) {
+    case 'running':
+      return `fitting… ${msg.evaluations} run${msg.evaluations === 1 ? '' : 's'} so far`;
+    case 'cancelled':
+      return 'fit cancelled';
+    case 'failed':
+      return `fit failed: ${msg.message ?? 'unknown error'}`;
+    case 'done': {
+      const values = Object.entries(msg.values ?? {}).map(([k, v]) => `${k} = ${fmt(v, 4)}`).join(', ');
+      const best = msg.best === null ? '' : ` · ${metric} ${show(msg.best)}`;
+      const noisy = msg.noisy === null ? '' : ` (noisy input ${show(msg.noisy)})`;
+      return `fit: ${values} · best step ${msg.step ?? '?'}${best}${noisy} · ${msg.evaluations} runs`;
+    }
+  }
+}

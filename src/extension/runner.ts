@@ -44,7 +44,7 @@ export class SchemeRunner extends Disposable {
       this.changed.fire(doc.uri);
       return s;
     }
-    const size = readSettings(doc.uri).maxPreviewSize;
+    const { maxPreviewSize: size, backend } = readSettings(doc.uri);
     const needsImage = checked.scheme.fields.some((f) => f.init.kind === 'image');
     const scene = needsImage ? core.makeScene('survey', { width: size, height: checked.scheme.dims === 1 ? 1 : size }) : null;
     this.engine ??= new core.EngineWorker();
@@ -57,6 +57,7 @@ export class SchemeRunner extends Disposable {
         width: size,
         height: checked.scheme.dims === 1 ? 1 : size,
         every: 0,
+        backend,
       });
       const outcome = await handle.done;
       const r = outcome.result;
@@ -69,7 +70,7 @@ export class SchemeRunner extends Disposable {
       const line = `Ran ${r.stepsDone}/${r.steps} steps on ${where} in ${((Date.now() - t0) / 1000).toFixed(2)} s${status}: `
         + (st ? `${primaryName} in [${fmt(st.min)}, ${fmt(st.max)}], mean ${fmt(st.mean)}` : 'no field statistics')
         + ` · ${findings}`;
-      this.log(line);
+      this.log(`${line} · backend ${r.backend}`);
       for (const w of r.warnings) this.log(`  finding: ${w.message}`);
       const s = { line, outcome, primary: primaryName };
       this.results.set(key, s);

@@ -73,6 +73,8 @@ export namespace ToPreview {
     readonly current: { readonly values: Readonly<Record<string, number>>; readonly dt: number };
     readonly input: InputChoice;
     readonly inputLabel: string;
+    /** Whether "fit knobs" can run now, and the button's tooltip (why it cannot, or what it will do). */
+    readonly fit?: { readonly ready: boolean; readonly note: string };
   }
   /** A run begins: sizes of the full-resolution grid and of the frames that will be posted. */
   export interface RunStarted extends Base {
@@ -159,7 +161,23 @@ export namespace ToPreview {
   }
   /** A request could not be served (e.g. the image file could not be read); shown in the panel, not as a toast. */
   export interface Notice extends Base { readonly type: 'notice'; readonly level: 'info' | 'error'; readonly text: string }
-  export type Type = Scheme | RunStarted | Frame | Finding | RunEnded | Verdict | Problems | Weights | Impulse | Profile | Notice;
+  /**
+   * The state of a knob fit (FromPreview.FitKnobs): `running` with the evaluations so far, then one of `done` (with
+   * the values found, the best step and its metric against the clean scene), `cancelled` or `failed` (`message`).
+   */
+  export interface Fit extends Base {
+    readonly type: 'fit';
+    readonly fitId: number;
+    readonly status: 'running' | 'done' | 'cancelled' | 'failed';
+    readonly evaluations: number;
+    readonly metric: 'psnr' | 'ssim';
+    readonly values: Readonly<Record<string, number>> | null;
+    readonly step: number | null;
+    readonly best: number | null;
+    readonly noisy: number | null;
+    readonly message: string | null;
+  }
+  export type Type = Scheme | RunStarted | Frame | Finding | RunEnded | Verdict | Problems | Weights | Impulse | Profile | Notice | Fit;
 }
 
 export namespace FromPreview {
@@ -179,7 +197,9 @@ export namespace FromPreview {
   /** Reveal a source range in the editor with the range selected. */
   export interface Reveal extends Base { readonly type: 'reveal'; readonly range: WireRange }
   export interface Rerun extends Base { readonly type: 'rerun' }
-  export type Type = Ready | SetKnobs | WriteKnobs | SetInput | ChooseImage | ShowField | PickPixel | RequestProfile | Reveal | Rerun;
+  /** Fits the knobs that declare a range (or only `names`, when given) on the current scene; see ToPreview.Fit. */
+  export interface FitKnobs extends Base { readonly type: 'fitKnobs'; readonly names?: readonly string[] }
+  export type Type = Ready | SetKnobs | WriteKnobs | SetInput | ChooseImage | ShowField | PickPixel | RequestProfile | Reveal | Rerun | FitKnobs;
 }
 
 // ------------------------------------------------------------------------------------------------ validation
@@ -273,6 +293,11 @@ export function validateFromPreview(raw: unknown): FromPreview.Type | null {
       const r = range(raw.range);
       return r ? { type: 'reveal', source, range: r } : null;
     }
+    case 'fitKnobs': {
+      if (raw.names === undefined) return { type: 'fitKnobs', source };
+      if (!Array.isArray(raw.names) || raw.names.length === 0 || raw.names.length > 200 || !raw.names.every(name)) return null;
+      return { type: 'fitKnobs', source, names: [...raw.names] as string[] };
+    }
     default:
       return null;
   }
@@ -316,9 +341,14 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
       const values = knobValues(raw.current.values);
       const input = validInput(raw.input);
       if (knobs.some((k) => k === null) || !dt || !values || !num(raw.current.dt) || !input) return null;
+      let fit: ToPreview.Scheme['fit'];
+      if (raw.fit !== undefined) {
+        if (!isObj(raw.fit) || typeof raw.fit.ready !== 'boolean' || !str(raw.fit.note, 1000)) return null;
+        fit = { ready: raw.fit.ready, note: raw.fit.note };
+      }
       return {
         type: 'scheme', source, fileName: raw.fileName, dims: raw.dims, fields: raw.fields as string[], knobs: knobs as KnobSpec[], dt,
-        steps: raw.steps, current: { values, dt: raw.current.dt }, input, inputLabel: raw.inputLabel,
+        steps: raw.steps, current: { values, dt: raw.current.dt }, input, inputLabel: raw.inputLabel, ...(fit ? { fit } : {}),
       };
     }
     case 'runStarted':
@@ -379,6 +409,18 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
       const before = floats(raw.before);
       const after = floats(raw.after, before?.length);
       return before && after ? { type: 'profile', source, runId: raw.runId, row: raw.row, step: raw.step, before, after } : null;
+    }
+    case 'fit': {
+      const statuses: readonly unknown[] = ['running', 'done', 'cancelled', 'failed'];
+      if (!int(raw.fitId) || !statuses.includes(raw.status) || !int(raw.evaluations) || (raw.metric !== 'psnr' && raw.metric !== 'ssim')) return null;
+      const values = raw.values === null ? null : knobValues(raw.values);
+      if (raw.values !== null && !values) return null;
+      if (!(raw.step === null || int(raw.step)) || !(raw.best === null || typeof raw.best === 'number') || !(raw.noisy === null || typeof raw.noisy === 'number')) return null;
+      if (!(raw.message === null || str(raw.message, 10_000))) return null;
+      return {
+        type: 'fit', source, fitId: raw.fitId, status: raw.status as ToPreview.Fit['status'], evaluations: raw.evaluations, metric: raw.metric,
+        values, step: raw.step, best: raw.best, noisy: raw.noisy, message: raw.message,
+      };
     }
     case 'notice':
       if ((raw.level !== 'info' && raw.level !== 'error') || !str(raw.text, 10_000)) return null;

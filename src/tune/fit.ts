@@ -3,6 +3,7 @@
 // the optimiser (golden-section for one name, bounded Nelder–Mead for more; optimise.ts) minimises minus that.
 // Node (uses the worker pool); must not import vscode or the DOM.
 
+import type { BackendChoice } from '../engine/wasm/select';
 import type { Curve, MetricName, Setting } from './evaluate';
 import { goldenSection, nelderMead } from './optimise';
 import { TunePool } from './pool';
@@ -23,8 +24,21 @@ export interface FitOptions {
   readonly workers: number;
   readonly maxEvaluations?: number;
   readonly dtype?: 'float32' | 'float64';
+  readonly backend?: BackendChoice;
   readonly onEvaluation?: (count: number) => void;
+  /** Aborting stops the fit: the pool's workers are terminated and runFit rejects with a FitCancelled. */
+  readonly signal?: AbortSignal;
 }
+
+/** The rejection of a fit whose signal was aborted. */
+export class FitCancelled extends Error {
+  constructor() {
+    super('the fit was cancelled');
+  }
+}
+
+/** What a fit needs of a tuning problem: the scheme's text and the noisy and clean pictures. */
+export type FitProblem = Pick<Problem, 'source' | 'image' | 'reference'>;
 
 export interface FitResult {
   readonly method: 'golden-section' | 'nelder-mead';
@@ -40,18 +54,31 @@ export interface FitResult {
   readonly seconds: number;
 }
 
-export async function runFit(problem: Problem, opts: FitOptions): Promise<FitResult> {
+export async function runFit(problem: FitProblem, opts: FitOptions): Promise<FitResult> {
   const t0 = performance.now();
+  const signal = opts.signal;
+  if (signal?.aborted) throw new FitCancelled();
   const pool = await TunePool.open(opts.workers, {
     source: problem.source, image: problem.image, reference: problem.reference,
-    steps: opts.steps, metric: opts.metric, dtype: opts.dtype ?? 'float32',
+    steps: opts.steps, metric: opts.metric, dtype: opts.dtype ?? 'float32', ...(opts.backend ? { backend: opts.backend } : {}),
   });
   const history: FitResult['history'][number][] = [];
   const curves = new Map<string, Curve>();
   const toSetting = (x: number[]): Setting => Object.fromEntries(opts.free.map((f, i) => [f.name, x[i]]));
+  // An abort terminates the workers (a long step is not waited for); the evaluation in flight then never settles,
+  // so every evaluation races against the abort.
+  let rejectAborted: (err: Error) => void = () => undefined;
+  const aborted = new Promise<never>((_, reject) => { rejectAborted = reject; });
+  aborted.catch(() => undefined);
+  const onAbort = () => {
+    void pool.close();
+    rejectAborted(new FitCancelled());
+  };
+  signal?.addEventListener('abort', onAbort, { once: true });
   const objective = async (points: number[][]): Promise<number[]> => {
+    if (signal?.aborted) throw new FitCancelled();
     const settings = points.map(toSetting);
-    const cs = await pool.evaluate(settings);
+    const cs = await Promise.race([pool.evaluate(settings), aborted]);
     return cs.map((c, i) => {
       history.push({ values: settings[i], step: c.bestStep, best: c.best });
       curves.set(JSON.stringify(points[i]), c);
@@ -61,6 +88,7 @@ export async function runFit(problem: Problem, opts: FitOptions): Promise<FitRes
     });
   };
   try {
+    if (signal?.aborted) throw new FitCancelled();
     const f = opts.free;
     const maxEvaluations = opts.maxEvaluations ?? 60;
     const r = f.length === 1
@@ -79,6 +107,7 @@ export async function runFit(problem: Problem, opts: FitOptions): Promise<FitRes
       seconds: (performance.now() - t0) / 1000,
     };
   } finally {
+    signal?.removeEventListener('abort', onAbort);
     await pool.close();
   }
 }

@@ -3,6 +3,7 @@
 // Must not import vscode or the DOM.
 
 import type { RunImage } from '../engine';
+import type { BackendChoice } from '../engine/wasm/select';
 import type { MetricName, Setting } from './evaluate';
 
 export interface Picture {
@@ -21,6 +22,8 @@ export namespace ToTuneWorker {
     readonly steps: number;
     readonly metric: MetricName;
     readonly dtype: 'float32' | 'float64';
+    /** The kernel backend by name (`auto` or absent: the engine's default). */
+    readonly backend?: BackendChoice;
   }
   export interface Eval {
     readonly type: 'eval';

@@ -5,12 +5,15 @@
 import { parentPort } from 'node:worker_threads';
 import { parseAndCheck } from '../notation/index';
 import type { CheckedScheme } from '../notation/scheme';
+import { backendByName, setDefaultBackend } from '../engine/wasm/select';
 import { evaluateSetting, type EvaluationTask } from './evaluate';
 import type { FromTuneWorker, ToTuneWorker } from './protocol';
 
 let current: { scheme: CheckedScheme; task: EvaluationTask } | { error: string } | null = null;
 
 function setup(msg: ToTuneWorker.Setup): void {
+  // This thread runs nothing else, so the named backend becomes its default.
+  setDefaultBackend(msg.backend && msg.backend !== 'auto' ? backendByName(msg.backend) : null);
   const checked = parseAndCheck(msg.source);
   if (!checked.scheme) {
     const first = checked.diagnostics.find((d) => d.severity === 'error');

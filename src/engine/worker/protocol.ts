@@ -5,9 +5,13 @@
 import type { CheckedScheme } from '../../notation/scheme';
 import type { RunOptions, RunResult } from '../run';
 import type { FieldArray, FrameStats, RunWarning } from '../types';
+import type { BackendChoice } from '../wasm/select';
 
-/** Run options that survive structured cloning (no backend object, no callbacks). */
-export type WorkerRunOptions = Omit<RunOptions, 'backend'>;
+/**
+ * Run options that survive structured cloning (no callbacks): the backend travels by name and the worker resolves
+ * it (backendByName); absent, the worker uses the engine's default.
+ */
+export type WorkerRunOptions = Omit<RunOptions, 'backend'> & { readonly backend?: BackendChoice };
 
 /** A field snapshot: row-major values with their size. */
 export interface FieldSnapshot {

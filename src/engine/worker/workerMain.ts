@@ -7,6 +7,7 @@ import { parentPort } from 'node:worker_threads';
 import { parseAndCheck } from '../../notation/index';
 import { createRun } from '../run';
 import type { FieldArray } from '../types';
+import { backendByName } from '../wasm/select';
 import type { FieldSnapshot, FromWorker, ToWorker } from './protocol';
 
 function post(msg: FromWorker.Type, transfer: ArrayBuffer[] = []): void {
@@ -27,7 +28,8 @@ function start(msg: ToWorker.Start): void {
     }
     if (!scheme) throw new Error('no scheme to run');
     const flag = new Int32Array(msg.cancel);
-    const run = createRun(scheme, msg.options);
+    const { backend, ...options } = msg.options;
+    const run = createRun(scheme, backend ? { ...options, backend: backendByName(backend) } : options);
     const every = msg.progressEveryMs ?? 50;
     let lastProgress = 0;
     const result = run.runSync({

@@ -5,12 +5,28 @@
 import * as vscode from 'vscode';
 import { validateFromPreview, validInput, type InputChoice, type ToPreview, type WireRange } from '../../protocol/preview';
 import { Disposable } from '../util/dispose';
+import { backendChoice } from '../config';
 import { liveRunHtml, makeNonce } from './previewHtml';
-import type { GreyPicture, PreviewSession, SessionSettings } from './session';
+import type { BackendChoice } from '../../engine/wasm/select';
+import type { FitJob, FitOutcome, GreyPicture, PreviewSession, SessionSettings } from './session';
 import type { AnalysisService } from './analysisClient';
 import type { OffsetEdit } from './frames';
 
 export const LIVE_RUN_VIEW_TYPE = 'fluxel.liveRun';
+/** The action of the notification that offers to write fitted knob values back. */
+export const WRITE_FIT = 'Write into the file';
+
+/**
+ * A knob fit in src/tune's worker pool (off the host thread), loaded on first use. The pool uses every core but
+ * one, at least one: the live run's own worker keeps a core for the rerun that follows.
+ */
+async function runKnobFit(job: FitJob, signal: AbortSignal, onEvaluation: (count: number) => void): Promise<FitOutcome> {
+  const [{ runFit }, { defaultWorkers }] = await Promise.all([import('../../tune/fit'), import('../../tune/pool')]);
+  const r = await runFit(job, {
+    free: job.free, steps: job.steps, metric: job.metric, workers: Math.max(1, defaultWorkers() - 1), backend: job.backend, signal, onEvaluation,
+  });
+  return { values: r.values, step: r.step, best: r.best, noisy: r.noisy, evaluations: r.evaluations };
+}
 
 export interface PanelContext {
   readonly extensionUri: vscode.Uri;
@@ -26,7 +42,13 @@ export function readLiveRunSettings(scope?: vscode.Uri): SessionSettings {
     debounceMs: clamp(c.get('debounceMs'), 0, 5000, 150),
     maxPreviewSize: Math.round(clamp(c.get('maxPreviewSize'), 16, 4096, 512)),
     sceneSize: Math.round(clamp(c.get('sceneSize'), 16, 2048, 256)),
+    backend: readBackendSetting(scope),
   };
+}
+
+/** `fluxel.engine.backend`: the kernel backend of the live run and its knob fits. */
+export function readBackendSetting(scope?: vscode.Uri): BackendChoice {
+  return backendChoice(vscode.workspace.getConfiguration('fluxel.engine', scope).get('backend'));
 }
 
 export function webviewOptions(extensionUri: vscode.Uri): vscode.WebviewOptions & vscode.WebviewPanelOptions {
@@ -78,7 +100,7 @@ export class LiveRunPanel extends Disposable {
       if (e.document.uri.toString() === document.toString() && e.contentChanges.length) this.session?.documentChanged(e.document.getText());
     }));
     this._register(vscode.workspace.onDidChangeConfiguration((e) => {
-      if (e.affectsConfiguration('fluxel.liveRun', document)) this.session?.refresh();
+      if (e.affectsConfiguration('fluxel.liveRun', document) || e.affectsConfiguration('fluxel.engine.backend', document)) this.session?.refresh();
     }));
     this.ready = this.start();
   }
@@ -114,6 +136,8 @@ export class LiveRunPanel extends Disposable {
       applyEdits: (edits, text) => this.applyEdits(edits, text),
       reveal: (range) => void this.reveal(range),
       log: this.ctx.log,
+      fit: (job, signal, onEvaluation) => runKnobFit(job, signal, onEvaluation),
+      offerWrite: async (summary) => (await vscode.window.showInformationMessage(summary, WRITE_FIT)) === WRITE_FIT,
     });
     this.session.documentChanged(doc.getText());
   }

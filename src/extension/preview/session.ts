@@ -6,6 +6,7 @@
 import type { FieldSnapshot, WorkerRunOptions } from '../../engine/worker/protocol';
 import type { WorkerRunCallbacks, WorkerRunHandle } from '../../engine/worker/workerClient';
 import type { FrameStats, RunWarning } from '../../engine/types';
+import type { BackendChoice } from '../../engine/wasm/select';
 import { canonicalScheme } from '../../engine/plan';
 import { parse, parseAndCheck } from '../../notation';
 import type { SourceRange } from '../../notation/ast';
@@ -34,9 +35,31 @@ export interface SessionSettings {
   readonly maxPreviewSize: number;
   /** Size of generated scenes. */
   readonly sceneSize: number;
+  /** The kernel backend of the runs (`fluxel.engine.backend`); absent means `auto`. */
+  readonly backend?: BackendChoice;
 }
 
-export const DEFAULT_SETTINGS: SessionSettings = { debounceMs: 150, maxPreviewSize: 512, sceneSize: 256 };
+export const DEFAULT_SETTINGS: SessionSettings = { debounceMs: 150, maxPreviewSize: 512, sceneSize: 256, backend: 'auto' };
+
+/** A knob fit as the session hands it to its fitter: the text with the current knob values written in, the pictures. */
+export interface FitJob {
+  readonly source: string;
+  readonly image: GreyPicture;
+  readonly reference: GreyPicture;
+  readonly steps: number;
+  readonly metric: 'psnr';
+  /** The knobs to fit, each with its declared range and its current value (clamped into the range). */
+  readonly free: readonly { readonly name: string; readonly lo: number; readonly hi: number; readonly value: number }[];
+  readonly backend: BackendChoice;
+}
+
+export interface FitOutcome {
+  readonly values: Readonly<Record<string, number>>;
+  readonly step: number;
+  readonly best: number;
+  readonly noisy: number;
+  readonly evaluations: number;
+}
 
 /** What the session needs from its surroundings; every member is injected so the session runs without VS Code. */
 export interface SessionEnv {
@@ -58,6 +81,13 @@ export interface SessionEnv {
   applyEdits?(edits: readonly OffsetEdit[], text: string): Promise<boolean>;
   reveal?(range: WireRange): void;
   log?(line: string): void;
+  /**
+   * Runs a knob fit off the host thread (src/tune's worker pool in the panel); rejects once `signal` aborts.
+   * Absent (the bench), the "fit knobs" button stays disabled.
+   */
+  fit?(job: FitJob, signal: AbortSignal, onEvaluation: (count: number) => void): Promise<FitOutcome>;
+  /** Offers to write fitted values into the file; resolves true when the user accepts. */
+  offerWrite?(summary: string): Promise<boolean>;
 }
 
 /**
@@ -155,6 +185,9 @@ export class PreviewSession {
   private busy: LiveRun | null = null;
   private waiting: (() => void) | null = null;
   private disposed = false;
+  /** The knob fit in flight, if any: a new fit or dispose() aborts it. */
+  private fitting: { readonly fitId: number; readonly abort: AbortController } | null = null;
+  private nextFitId = 1;
 
   /** Knob values remembered from an earlier session, applied at the first successful check. */
   private recalled: StoredKnobs | null;
@@ -249,9 +282,30 @@ export class PreviewSession {
     this.schemeMsg = {
       type: 'scheme', source: this.env.source, fileName: this.env.fileName, dims: s.dims, fields,
       knobs, dt: { name: 'dt', value: s.dt, lo: s.dtBounds?.lo ?? null, hi: s.dtBounds?.hi ?? null }, steps: s.steps,
-      current: this.knobs(), input: this.input, inputLabel: inputLabel(this.input),
+      current: this.knobs(), input: this.input, inputLabel: inputLabel(this.input), fit: this.fitState(),
     };
     this.env.post(this.schemeMsg);
+  }
+
+  /** The knobs a fit would search (declared range, not empty), optionally only those named. */
+  private fitNames(names?: readonly string[]): { name: string; lo: number; hi: number; value: number }[] {
+    const s = this.good?.scheme;
+    if (!s) return [];
+    const current = this.knobs();
+    return s.params
+      .filter((p) => p.lo !== null && p.hi !== null && p.lo < p.hi && (!names || names.includes(p.name)))
+      .map((p) => ({ name: p.name, lo: p.lo as number, hi: p.hi as number, value: Math.min(p.hi as number, Math.max(p.lo as number, current.values[p.name] ?? p.value)) }));
+  }
+
+  /** Whether "fit knobs" can run on the current scheme and input, with the button's tooltip. */
+  private fitState(): { ready: boolean; note: string } {
+    const s = this.good?.scheme;
+    if (!this.env.fit || !s) return { ready: false, note: 'Fitting is not available here.' };
+    if (!s.fields.some((f) => f.init.kind === 'image')) return { ready: false, note: 'Fitting needs a field that starts from the image (field NAME = image).' };
+    if (this.input.kind !== 'scene') return { ready: false, note: 'Fitting needs a scene as input: an image file has no clean reference to measure against.' };
+    const free = this.fitNames();
+    if (!free.length) return { ready: false, note: 'No knob declares a range to search (param NAME = VALUE in [LO, HI]).' };
+    return { ready: true, note: `Search ${free.map((f) => f.name).join(', ')} within the declared ranges for the best PSNR against the clean scene, jointly with the best step.` };
   }
 
   private inputKey(input: InputChoice): string {
@@ -352,6 +406,7 @@ export class PreviewSession {
       ...(needsImage && reference ? { reference } : {}),
       params: knobs.values, dt: knobs.dt, every,
       monitors: { extremumCheck: known ?? 'auto' },
+      backend: this.env.settings().backend ?? 'auto',
     };
     const launch = () => {
       if (this.run !== run || this.disposed) return;
@@ -464,6 +519,79 @@ export class PreviewSession {
     if (r.ended) this.env.post(r.ended);
   }
 
+  /**
+   * Fits the ranged knobs on the current scene (noise and seed included) off the host thread, moves the knobs to
+   * the values found (which reruns), and offers to write them into the file. A newer fit cancels this one.
+   */
+  private async fitKnobs(names?: readonly string[]): Promise<void> {
+    const g = this.good;
+    const fit = this.env.fit;
+    const state = this.fitState();
+    if (!g || !fit) return;
+    this.fitting?.abort.abort();
+    this.fitting = null;
+    const fitId = this.nextFitId++;
+    const base = { type: 'fit' as const, source: this.env.source, fitId, metric: 'psnr' as const, values: null, step: null, best: null, noisy: null };
+    const free = this.fitNames(names);
+    const input = this.input;
+    if (!state.ready || !free.length || input.kind !== 'scene') {
+      this.env.post({ ...base, status: 'failed', evaluations: 0, message: state.ready ? 'None of the named knobs declares a range.' : state.note });
+      return;
+    }
+    const abort = new AbortController();
+    const me = { fitId, abort };
+    this.fitting = me;
+    this.env.post({ ...base, status: 'running', evaluations: 0, message: null });
+    const knobs = this.knobs();
+    // The fit runs the scheme as the knobs stand: the other knobs' current values are written into its text.
+    const edits = knobEdits(parse(g.text).program, knobs.values, knobs.dt);
+    let source = g.text;
+    for (const e of [...edits].sort((a, b) => b.start - a.start)) source = source.slice(0, e.start) + e.newText + source.slice(e.end);
+    const s = g.scheme;
+    const steps = s.untilTime !== null && knobs.dt !== s.dt ? Math.round(s.untilTime / knobs.dt) : s.steps;
+    let evaluations = 0;
+    try {
+      const size = this.env.settings().sceneSize;
+      const key = this.inputKey(input);
+      const pictures = this.pictures?.key === key && this.pictures.reference
+        ? { image: this.pictures.image, reference: this.pictures.reference }
+        : await this.env.analysis.scene(input.scene, input.noise, input.seed, size).then((p) => ({ image: p.noisy as GreyPicture, reference: p.clean as GreyPicture }));
+      if (abort.signal.aborted) throw new Error('cancelled');
+      const job: FitJob = { source, image: pictures.image, reference: pictures.reference, steps, metric: 'psnr', free, backend: this.env.settings().backend ?? 'auto' };
+      const r = await fit(job, abort.signal, (n) => {
+        evaluations = n;
+        if (this.fitting === me) this.env.post({ ...base, status: 'running', evaluations: n, message: null });
+      });
+      if (this.fitting !== me || this.disposed) return;
+      this.fitting = null;
+      this.env.post({ ...base, status: 'done', evaluations: r.evaluations, values: { ...r.values }, step: r.step, best: r.best, noisy: r.noisy, message: null });
+      // The knobs move to the values found; the file's text is untouched until the user accepts the offer.
+      const cur = this.good?.scheme;
+      if (!cur) return;
+      for (const p of cur.params) {
+        const v = r.values[p.name];
+        if (v === undefined) continue;
+        if (v === p.value) delete this.overrides[p.name];
+        else this.overrides[p.name] = v;
+      }
+      this.rememberKnobs();
+      this.postScheme();
+      this.startRun();
+      const shown = Object.entries(r.values).map(([k, v]) => `${k} = ${Number(v.toPrecision(4))}`).join(', ');
+      const summary = `Fit: ${shown}, best step ${r.step}, PSNR ${r.best.toFixed(2)} dB (noisy input ${r.noisy.toFixed(2)} dB).`;
+      if (this.env.offerWrite && (await this.env.offerWrite(summary)) && !this.disposed && this.env.applyEdits) {
+        const text = this.text;
+        const out = knobEdits(parse(text).program, r.values, null);
+        if (out.length) await this.env.applyEdits(out, text);
+      }
+    } catch (err) {
+      if (this.fitting !== me) return;
+      this.fitting = null;
+      const cancelled = abort.signal.aborted;
+      this.env.post({ ...base, status: cancelled ? 'cancelled' : 'failed', evaluations, message: cancelled ? null : err instanceof Error ? err.message : String(err) });
+    }
+  }
+
   setInput(input: InputChoice): void {
     this.input = input;
     this.env.rememberInput(input);
@@ -535,6 +663,9 @@ export class PreviewSession {
       case 'reveal':
         this.env.reveal?.(msg.range);
         return;
+      case 'fitKnobs':
+        await this.fitKnobs(msg.names);
+        return;
     }
   }
 
@@ -569,6 +700,8 @@ export class PreviewSession {
 
   dispose(): void {
     this.disposed = true;
+    this.fitting?.abort.abort();
+    this.fitting = null;
     this.clearTimer();
     this.stopRun();
     this.busy = null;

@@ -41,6 +41,17 @@ describe('engine worker', () => {
     expect(out.result.stepsDone >= cancelledAt && out.result.stepsDone < 100000, `stopped at ${out.result.stepsDone}, cancel seen by client at ${cancelledAt}`).toBe(true);
   });
 
+  it('runs on the backend named in the start message (the live run setting `fluxel.engine.backend`)', async () => {
+    const img = randomImage(16, 12, 3);
+    const js = await worker.start({ source: TEXT }, { image: img, steps: 2, backend: 'js' }).done;
+    const wasm = await worker.start({ source: TEXT }, { image: img, steps: 2, backend: 'wasm' }).done;
+    const auto = await worker.start({ source: TEXT }, { image: img, steps: 2 }).done;
+    expect(js.result.backend).toBe('js');
+    expect(wasm.result.backend).toMatch(/^wasm \(f32x4/);
+    expect(auto.result.backend).toBe(wasm.result.backend);
+    expectClose(js.fields.u.data, wasm.fields.u.data, 1e-6, 'js vs wasm backend in the worker');
+  });
+
   it('reports scheme errors with a position', async () => {
     await expect(worker.start({ source: 'grid 2d\nfield u = image\nu\' = q\n' }, {}).done).rejects.toThrow(/^\d+:\d+: /);
   });

@@ -20,6 +20,8 @@ describe('messages from the webview', () => {
     ['requestProfile', { type: 'requestProfile', source: src, runId: 4, step: 10, row: 12 }],
     ['reveal', { type: 'reveal', source: src, range }],
     ['rerun', { type: 'rerun', source: src }],
+    ['fitKnobs', { type: 'fitKnobs', source: src }],
+    ['fitKnobs with names', { type: 'fitKnobs', source: src, names: ['K', 'sigma'] }],
   ];
   for (const [name, msg] of ok) {
     it(`accepts ${name}`, () => expect(validateFromPreview(msg)).toEqual(msg));
@@ -40,6 +42,9 @@ describe('messages from the webview', () => {
     ['empty file uri', { type: 'setInput', source: src, input: { kind: 'file', uri: '' } }],
     ['negative pixel', { type: 'pickPixel', source: src, runId: 1, step: 0, x: -1, y: 0 }],
     ['fractional step', { type: 'pickPixel', source: src, runId: 1, step: 0.5, x: 1, y: 0 }],
+    ['fitKnobs with no names', { type: 'fitKnobs', source: src, names: [] }],
+    ['fitKnobs with a name that is not one', { type: 'fitKnobs', source: src, names: ['K', 'a b'] }],
+    ['fitKnobs with names not a list', { type: 'fitKnobs', source: src, names: 'K' }],
     ['range line 0', { type: 'reveal', source: src, range: { start: { line: 0, column: 1 }, end: { line: 1, column: 1 } } }],
   ];
   for (const [name, msg] of bad) {
@@ -74,6 +79,31 @@ describe('messages from the host', () => {
   };
   it('accepts a scheme message', () => expect(validateToPreview(scheme)).toEqual(scheme));
   it('refuses a scheme with 3 dimensions', () => expect(validateToPreview({ ...scheme, dims: 3 })).toBeNull());
+  it('accepts a scheme message with the fit state, and refuses a malformed one', () => {
+    const withFit = { ...scheme, fit: { ready: false, note: 'Fitting needs a scene as input.' } };
+    expect(validateToPreview(withFit)).toEqual(withFit);
+    expect(validateToPreview({ ...scheme, fit: { ready: 'yes', note: '' } })).toBeNull();
+    expect(validateToPreview({ ...scheme, fit: { ready: true } })).toBeNull();
+  });
+
+  const fit = {
+    type: 'fit', source: src, fitId: 2, status: 'done', evaluations: 23, metric: 'psnr',
+    values: { K: 0.071 }, step: 18, best: 28.5, noisy: 20.1, message: null,
+  };
+  it('accepts knob fit messages while running and when done', () => {
+    expect(validateToPreview(fit)).toEqual(fit);
+    const running = { ...fit, status: 'running', evaluations: 3, values: null, step: null, best: null, noisy: null };
+    expect(validateToPreview(running)).toEqual(running);
+    const failed = { ...running, status: 'failed', message: 'no scene' };
+    expect(validateToPreview({ ...failed, extra: 1 })).toEqual(failed);
+  });
+  it('refuses knob fit messages with an unknown status, a bad value or a fractional step', () => {
+    expect(validateToPreview({ ...fit, status: 'maybe' })).toBeNull();
+    expect(validateToPreview({ ...fit, values: { K: 'big' } })).toBeNull();
+    expect(validateToPreview({ ...fit, step: 1.5 })).toBeNull();
+    expect(validateToPreview({ ...fit, metric: 'mse' })).toBeNull();
+    expect(validateToPreview({ ...fit, fitId: -1 })).toBeNull();
+  });
 
   const verdict = {
     type: 'verdict', source: src, runId: 1,

@@ -7,7 +7,8 @@ import type { FieldSnapshot, WorkerRunOptions } from '../../../src/engine/worker
 import type { WorkerRunCallbacks, WorkerRunHandle, WorkerRunOutcome } from '../../../src/engine/worker/workerClient';
 import type { FrameStats } from '../../../src/engine/types';
 import type { AnalysisService } from '../../../src/extension/preview/analysisClient';
-import { PreviewSession, type EngineLike, type SessionEnv } from '../../../src/extension/preview/session';
+import { PreviewSession, type EngineLike, type FitJob, type FitOutcome, type SessionEnv } from '../../../src/extension/preview/session';
+import type { BackendChoice } from '../../../src/engine/wasm/select';
 import type { InputChoice, ToPreview } from '../../../src/protocol/preview';
 
 const SCHEME = [
@@ -60,7 +61,7 @@ function stats(step: number): FrameStats {
   return { step, t: step * 0.2, fields: { u: { min: 0, max: 1, mean: 0.5 } }, psnr: 20 + step };
 }
 
-function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown } = {}) {
+function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown; backend?: BackendChoice; fit?: SessionEnv['fit']; accept?: boolean } = {}) {
   const posted: ToPreview.Type[] = [];
   const runs: FakeRun[] = [];
   const engines: FakeEngine[] = [];
@@ -83,6 +84,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
   const revealed: unknown[] = [];
   const remembered: InputChoice[] = [];
   const rememberedKnobs: unknown[] = [];
+  const offers: string[] = [];
   const env: SessionEnv = {
     source: 'file:///w/a.fluxel',
     fileName: 'a.fluxel',
@@ -93,7 +95,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
       return e;
     },
     analysis,
-    settings: () => ({ debounceMs: opts.debounceMs ?? 0, maxPreviewSize: 16, sceneSize: 32 }),
+    settings: () => ({ debounceMs: opts.debounceMs ?? 0, maxPreviewSize: 16, sceneSize: 32, ...(opts.backend ? { backend: opts.backend } : {}) }),
     readImage: async () => ({ width: 8, height: 4, data: new Float32Array(32).fill(0.25) }),
     recallInput: () => opts.input ?? null,
     rememberInput: (i) => remembered.push(i),
@@ -102,10 +104,11 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
     pickImage: async () => 'file:///w/pic.png',
     applyEdits: async (e, text) => { edits.push({ edits: e, text }); return true; },
     reveal: (r) => revealed.push(r),
+    ...(opts.fit ? { fit: opts.fit, offerWrite: async (summary: string) => { offers.push(summary); return opts.accept ?? false; } } : {}),
   };
   const session = new PreviewSession(env);
   const of = <T extends ToPreview.Type['type']>(type: T) => posted.filter((m): m is Extract<ToPreview.Type, { type: T }> => m.type === type);
-  return { session, posted, runs, engines, weightsCalls, edits, revealed, remembered, rememberedKnobs, of };
+  return { session, posted, runs, engines, weightsCalls, edits, revealed, remembered, rememberedKnobs, offers, of };
 }
 
 /** Lets pending promise callbacks run (no timers involved). */
@@ -354,5 +357,137 @@ describe('live run session', async () => {
     session.dispose();
     expect(runs[0].cancelled).toBe(true);
     expect(engines[0].terminated).toBe(true);
+  });
+
+  it('passes the backend setting to every run by name (auto when unset)', async () => {
+    const a = setup({ backend: 'js' });
+    a.session.documentChanged(SCHEME);
+    await settle();
+    expect(a.runs[0].options.backend).toBe('js');
+    const b = setup();
+    b.session.documentChanged(SCHEME);
+    await settle();
+    expect(b.runs[0].options.backend).toBe('auto');
+  });
+});
+
+/** A fitter that records its jobs and resolves or rejects each when the test says so. */
+function fakeFitter() {
+  const calls: { job: FitJob; signal: AbortSignal; onEvaluation: (n: number) => void; resolve(o: FitOutcome): void }[] = [];
+  const fit: NonNullable<SessionEnv['fit']> = (job, signal, onEvaluation) => new Promise<FitOutcome>((resolve, reject) => {
+    calls.push({ job, signal, onEvaluation, resolve });
+    signal.addEventListener('abort', () => reject(new Error('aborted')), { once: true });
+  });
+  return { fit, calls };
+}
+
+const FIT_DONE: FitOutcome = { values: { K: 0.3 }, step: 2, best: 25.5, noisy: 20, evaluations: 9 };
+
+describe('knob fit in the live run', () => {
+  it('says in the scheme message whether a fit can run: ready on a scene, not on an image file or without a fitter', async () => {
+    const f = fakeFitter();
+    const a = setup({ fit: f.fit });
+    a.session.documentChanged(SCHEME);
+    await settle();
+    expect(a.of('scheme')[0].fit).toMatchObject({ ready: true });
+    expect(a.of('scheme')[0].fit?.note).toMatch(/\bK\b/);
+    const b = setup({ fit: f.fit, input: { kind: 'file', uri: 'file:///w/pic.png' } });
+    b.session.documentChanged(SCHEME);
+    await settle();
+    expect(b.of('scheme')[0].fit).toMatchObject({ ready: false });
+    expect(b.of('scheme')[0].fit?.note).toMatch(/scene/);
+    await b.session.handle({ type: 'fitKnobs', source: 'file:///w/a.fluxel' });
+    expect(f.calls.length).toBe(0);
+    expect(b.of('fit').at(-1)).toMatchObject({ status: 'failed' });
+    expect(b.of('fit').at(-1)?.message).toMatch(/scene/);
+    const c = setup();
+    c.session.documentChanged(SCHEME);
+    await settle();
+    expect(c.of('scheme')[0].fit).toMatchObject({ ready: false });
+  });
+
+  it('fits the ranged knobs on the scene with the current knob values, moves the knobs, reruns and writes back on acceptance', async () => {
+    const f = fakeFitter();
+    const { session, runs, edits, offers, of } = setup({ fit: f.fit, accept: true, backend: 'js', input: { kind: 'scene', scene: 'card', noise: 0.2, seed: 5 } });
+    session.documentChanged(SCHEME);
+    await settle();
+    // A moved dt knob is written into the text the fit runs.
+    await session.handle({ type: 'setKnobs', source: 'file:///w/a.fluxel', values: { K: 0.5 }, dt: 0.1 });
+    await settle();
+    const before = runs.length;
+    const done = session.handle({ type: 'fitKnobs', source: 'file:///w/a.fluxel' });
+    await settle();
+    expect(f.calls.length).toBe(1);
+    const { job } = f.calls[0];
+    expect(job.free).toEqual([{ name: 'K', lo: 0, hi: 1, value: 0.5 }]);
+    expect(job.source).toContain('step dt = 0.1 in [0.01, 0.3]');
+    expect(job.steps).toBe(4);
+    expect(job.backend).toBe('js');
+    expect([job.image.width, job.reference.width]).toEqual([32, 32]);
+    expect(of('fit').map((m) => m.status)).toEqual(['running']);
+    f.calls[0].onEvaluation(3);
+    f.calls[0].resolve(FIT_DONE);
+    await done;
+    expect(of('fit').map((m) => [m.status, m.evaluations])).toEqual([['running', 0], ['running', 3], ['done', 9]]);
+    expect(of('fit').at(-1)).toMatchObject({ values: { K: 0.3 }, step: 2, best: 25.5, noisy: 20 });
+    expect(of('scheme').at(-1)?.current).toEqual({ values: { K: 0.3 }, dt: 0.1 });
+    expect(runs.length).toBe(before + 1);
+    expect(runs.at(-1)?.options.params).toEqual({ K: 0.3 });
+    expect(offers).toEqual(['Fit: K = 0.3, best step 2, PSNR 25.50 dB (noisy input 20.00 dB).']);
+    expect(edits.length).toBe(1);
+    expect(edits[0].text).toBe(SCHEME);
+    expect((edits[0].edits as { newText: string }[]).map((e) => e.newText)).toEqual(['0.3']);
+  });
+
+  it('writes nothing when the offer is declined', async () => {
+    const f = fakeFitter();
+    const { session, edits, offers } = setup({ fit: f.fit, accept: false });
+    session.documentChanged(SCHEME);
+    await settle();
+    const done = session.handle({ type: 'fitKnobs', source: 'file:///w/a.fluxel', names: ['K'] });
+    await settle();
+    f.calls[0].resolve(FIT_DONE);
+    await done;
+    expect(offers.length).toBe(1);
+    expect(edits.length).toBe(0);
+  });
+
+  it('cancels a fit in flight when a new one starts and when the panel closes', async () => {
+    const f = fakeFitter();
+    const { session, of } = setup({ fit: f.fit });
+    session.documentChanged(SCHEME);
+    await settle();
+    const first = session.handle({ type: 'fitKnobs', source: 'file:///w/a.fluxel' });
+    await settle();
+    const second = session.handle({ type: 'fitKnobs', source: 'file:///w/a.fluxel' });
+    await settle();
+    expect(f.calls.length).toBe(2);
+    expect(f.calls[0].signal.aborted).toBe(true);
+    expect(f.calls[1].signal.aborted).toBe(false);
+    await first;
+    // The replaced fit says nothing more; the page shows the newer one.
+    expect(of('fit').map((m) => [m.fitId, m.status])).toEqual([[1, 'running'], [2, 'running']]);
+    session.dispose();
+    expect(f.calls[1].signal.aborted).toBe(true);
+    await second;
+    expect(of('fit').length).toBe(2);
+  });
+
+  it('fits only the named knobs, and reports when none of them has a range', async () => {
+    const f = fakeFitter();
+    const { session, of } = setup({ fit: f.fit });
+    session.documentChanged(SCHEME);
+    await settle();
+    await session.handle({ type: 'fitKnobs', source: 'file:///w/a.fluxel', names: ['Q'] });
+    expect(f.calls.length).toBe(0);
+    expect(of('fit').at(-1)).toMatchObject({ status: 'failed', message: 'None of the named knobs declares a range.' });
+  });
+
+  it('reports a failed fit with its message', async () => {
+    const { session, of } = setup({ fit: async () => { throw new Error('the pool broke'); } });
+    session.documentChanged(SCHEME);
+    await settle();
+    await session.handle({ type: 'fitKnobs', source: 'file:///w/a.fluxel' });
+    expect(of('fit').at(-1)).toMatchObject({ status: 'failed', message: 'the pool broke' });
   });
 });

@@ -5,7 +5,7 @@ import { describe, expect, it } from 'vitest';
 import type { ToPreview, WireVerdict } from '../../../src/protocol/preview';
 import { divergingTable } from '../../../media/preview/colour';
 import {
-  changeScale, findingText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint, panBy,
+  changeScale, findingText, fitText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint, panBy,
   seriesOf, seriesSummary, sliderFromValue, SLIDER_STEPS, spaceTimeRepeat, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt,
 } from '../../../media/preview/viewModel';
 
@@ -152,6 +152,18 @@ describe('labels', () => {
     const f = { kind: 'new-extremum' as const, step: 41, x: 203, y: 17, field: 'u', message: 'new maximum 1.003', range: { start: { line: 14, column: 1 }, end: { line: 14, column: 9 } } };
     expect(findingText(f)).toBe('new extremum · step 41 at (203, 17): new maximum 1.003');
   });
+});
+
+describe('knob fit line', () => {
+  const base: ToPreview.Fit = { type: 'fit', source: src, fitId: 1, status: 'running', evaluations: 1, metric: 'psnr', values: null, step: null, best: null, noisy: null, message: null };
+  it.each([
+    [base, 'fitting… 1 run so far'],
+    [{ ...base, evaluations: 7 }, 'fitting… 7 runs so far'],
+    [{ ...base, status: 'cancelled' as const }, 'fit cancelled'],
+    [{ ...base, status: 'failed' as const, message: 'no scene' }, 'fit failed: no scene'],
+    [{ ...base, status: 'done' as const, evaluations: 21, values: { K: 0.0712345, sigma: 1.5 }, step: 18, best: 28.456, noisy: 20.1 },
+      'fit: K = 0.07123, sigma = 1.5 · best step 18 · PSNR 28.46 dB (noisy input 20.1 dB) · 21 runs'],
+  ])('case %#', (msg, text) => expect(fitText(msg)).toBe(text));
 });
 
 describe('knob sliders', () => {

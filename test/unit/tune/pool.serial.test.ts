@@ -8,6 +8,7 @@ import { parseAndCheck } from '../../../src/notation';
 import { evaluateSetting } from '../../../src/tune/evaluate';
 import { expandGrid, parseVary } from '../../../src/tune/grid';
 import { TunePool } from '../../../src/tune/pool';
+import { FitCancelled, runFit } from '../../../src/tune/fit';
 
 const source = readFileSync(join(__dirname, '../../../examples/edge-preserving.fluxel'), 'utf8');
 const scheme = parseAndCheck(source).scheme!;
@@ -48,5 +49,41 @@ describe('TunePool', () => {
     } finally {
       await pool.close();
     }
+  });
+
+  it('gives the same curves on the backend named in the setup (js) as on the default, within 1e-6 dB', async () => {
+    const want = evaluateSetting(scheme, task, { K: 0.1 });
+    const pool = await TunePool.open(1, { source, ...task, dtype: 'float32', backend: 'js' });
+    try {
+      const [got] = await pool.evaluate([{ K: 0.1 }]);
+      const diff = Math.max(...Array.from(got.values, (v, i) => Math.abs(v - want.values[i])));
+      expect(diff <= 1e-6, `max |PSNR difference| ${diff} dB exceeds 1e-6`).toBe(true);
+    } finally {
+      await pool.close();
+    }
+  });
+});
+
+describe('runFit cancellation', () => {
+  it('rejects with FitCancelled once its signal aborts, starting no evaluation after the batch in flight', async () => {
+    const abort = new AbortController();
+    let seen = 0;
+    const fit = runFit({ source, image: scene.noisy, reference: scene.clean }, {
+      free: [{ name: 'K', lo: 0.01, hi: 0.3, value: 0.1 }], steps: 15, metric: 'psnr', workers: 1, maxEvaluations: 40,
+      signal: abort.signal,
+      onEvaluation: (n) => {
+        seen = n;
+        if (n === 1) abort.abort();
+      },
+    });
+    await expect(fit).rejects.toBeInstanceOf(FitCancelled);
+    // Golden-section's first batch is the two ends and two inner points (optimise.ts); nothing runs after it.
+    expect(seen, 'evaluations before the cancel took effect').toBe(4);
+  });
+
+  it('does not start when its signal has already aborted', async () => {
+    const abort = new AbortController();
+    abort.abort();
+    await expect(runFit({ source, image: scene.noisy, reference: scene.clean }, { free: [{ name: 'K', lo: 0.01, hi: 0.3, value: 0.1 }], steps: 5, metric: 'psnr', workers: 1, signal: abort.signal })).rejects.toBeInstanceOf(FitCancelled);
   });
 });
