@@ -29,7 +29,8 @@ function start(msg: ToWorker.Start): void {
     if (!scheme) throw new Error('no scheme to run');
     const flag = new Int32Array(msg.cancel);
     const { backend, ...options } = msg.options;
-    const run = createRun(scheme, backend ? { ...options, backend: backendByName(backend) } : options);
+    // `auto` (or no name) leaves the engine's default in place.
+    const run = createRun(scheme, backend && backend !== 'auto' ? { ...options, backend: backendByName(backend) } : options);
     const every = msg.progressEveryMs ?? 50;
     let lastProgress = 0;
     const result = run.runSync({
