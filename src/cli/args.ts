@@ -26,3 +26,33 @@ export async function guard(name: string, body: () => Promise<number>): Promise<
     return 1;
   }
 }
+
+/** A finite number from an option's text, or a usage error naming the option. */
+export function numberArg(text: string, what: string, usageText: string): number {
+  const v = Number(text);
+  if (text.trim() === '' || !Number.isFinite(v)) throw new UsageError(`${what} needs a number, got '${text}'.\n${usageText}`);
+  return v;
+}
+
+/** A whole number ≥ min from an option's text, or a usage error naming the option. */
+export function wholeArg(text: string, what: string, min: number, usageText: string): number {
+  const v = numberArg(text, what, usageText);
+  if (!Number.isInteger(v) || v < min) throw new UsageError(`${what} needs a whole number ≥ ${min}, got '${text}'.\n${usageText}`);
+  return v;
+}
+
+/** `--size WxH`. */
+export function sizeArg(text: string | undefined, usageText: string): { width: number; height: number } | undefined {
+  if (text === undefined) return undefined;
+  const m = /^(\d+)x(\d+)$/.exec(text);
+  if (!m) throw new UsageError(`--size takes WxH, e.g. 128x96, got '${text}'.\n${usageText}`);
+  return { width: wholeArg(m[1], '--size width', 1, usageText), height: wholeArg(m[2], '--size height', 1, usageText) };
+}
+
+/** `--range LO:HI` (the sample values that map to 0 and 1). */
+export function rangeArg(text: string | undefined, usageText: string): { lo: number; hi: number } | undefined {
+  if (text === undefined) return undefined;
+  const m = /^([^:]+):([^:]+)$/.exec(text);
+  if (!m) throw new UsageError(`--range takes LO:HI, got '${text}'.\n${usageText}`);
+  return { lo: numberArg(m[1], '--range LO', usageText), hi: numberArg(m[2], '--range HI', usageText) };
+}

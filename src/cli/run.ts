@@ -13,7 +13,7 @@ import { parseAndCheck } from '../notation';
 import type { SourceRange } from '../notation/ast';
 import { createRun, EngineError, type RunImage, type RunWarning } from '../engine';
 import { BACKEND_CHOICES, backendByName, type BackendChoice } from '../engine/wasm/select';
-import { guard, parseCommandLine, UsageError } from './args';
+import { guard, parseCommandLine, UsageError, numberArg, rangeArg, sizeArg, wholeArg } from './args';
 import { formatDiagnostic } from './check';
 import { bestStepTracker, pictureField } from '../tune/evaluate';
 
@@ -46,17 +46,8 @@ const OPTIONS = {
   help: { type: 'boolean', short: 'h' },
 } as const;
 
-function number(text: string, what: string): number {
-  const v = Number(text);
-  if (text.trim() === '' || !Number.isFinite(v)) throw new UsageError(`${what} needs a number, got '${text}'.\n${USAGE}`);
-  return v;
-}
-
-function whole(text: string, what: string, min: number): number {
-  const v = number(text, what);
-  if (!Number.isInteger(v) || v < min) throw new UsageError(`${what} needs a whole number ≥ ${min}, got '${text}'.\n${USAGE}`);
-  return v;
-}
+const number = (text: string, what: string): number => numberArg(text, what, USAGE);
+const whole = (text: string, what: string, min: number): number => wholeArg(text, what, min, USAGE);
 
 const jsonRange = (r: SourceRange) => ({ start: { line: r.start.line, column: r.start.column }, end: { line: r.end.line, column: r.end.column } });
 
@@ -92,18 +83,8 @@ export function runMain(argv: string[]): Promise<number> {
       if (name === 'dt') dt = value;
       else params[name] = value;
     }
-    let size: { width: number; height: number } | undefined;
-    if (o.size !== undefined) {
-      const m = /^(\d+)x(\d+)$/.exec(o.size);
-      if (!m) throw new UsageError(`--size takes WxH, e.g. 128x96, got '${o.size}'.\n${USAGE}`);
-      size = { width: whole(m[1], '--size width', 1), height: whole(m[2], '--size height', 1) };
-    }
-    let range: { lo: number; hi: number } | undefined;
-    if (o.range !== undefined) {
-      const m = /^([^:]+):([^:]+)$/.exec(o.range);
-      if (!m) throw new UsageError(`--range takes LO:HI, got '${o.range}'.\n${USAGE}`);
-      range = { lo: number(m[1], '--range LO'), hi: number(m[2], '--range HI') };
-    }
+    const size = sizeArg(o.size, USAGE);
+    const range = rangeArg(o.range, USAGE);
 
     let text: string;
     try {

@@ -1,6 +1,6 @@
 // The slow half of checking, run in a worker thread so the extension host never waits for it: parses and checks the
 // text again, runs the static stability analysis, and returns its report and diagnostics as plain data.
-// Must not import vscode (the worker loads the extension bundle with a stub in its place).
+// Must not import vscode: the worker loads the extension bundle with an empty stand-in for it.
 
 import { parentPort } from 'node:worker_threads';
 import { analyseStability, stabilityDiagnostics, type StabilityReport } from '../analysis/stability';

@@ -6,7 +6,7 @@ import { DecodeOptions, GreyImage, ImageError } from './types';
 /**
  * ITU-R BT.709-6 (2015), item 3.2, luma coefficients.
  * Applied to the stored (gamma-encoded) values after scaling to [0,1]; we do not linearise first,
- * so the result is the video-style luma Y', not relative luminance.
+ * so the result is the gamma-encoded luma Y' of BT.709, not relative luminance.
  */
 export const LUMA_709 = { r: 0.2126, g: 0.7152, b: 0.0722 } as const;
 
