@@ -5,6 +5,7 @@
 import * as vscode from 'vscode';
 import { AnalysisClient } from './analysisClient';
 import { registerCommands } from './commands';
+import { registerExportCommand } from './exportCommand';
 import { RunLens } from './codeLens';
 import type { Core } from './core';
 import { StabilityDetails } from './details';
@@ -60,6 +61,7 @@ export function activate(context: vscode.ExtensionContext): FluxelApi {
     registerQuickFixes(manager),
     registerHover(manager, loadCore),
     registerCommands({ manager, details, runner, loadCore, output }),
+    registerExportCommand(log),
     registerPreview(context, log),
   );
   const activationMs = performance.now() - t0;
