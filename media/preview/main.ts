@@ -636,6 +636,8 @@ function mark(): void {
   b.view = state.view;
   b.weights = weights ? `${weights.x},${weights.y},${weights.step}` : '';
   b.fit = fit ? fit.status : '';
+  b.fitValues = fit?.values ? JSON.stringify(fit.values) : '';
+  b.knobs = JSON.stringify(knobValues);
   // The shown frame's mean as sent by the host and as held by the page, and the first frame's (cheap checks that the
   // page draws what the host sent; computed once the run has ended).
   const f = store.frames[current];

@@ -67,6 +67,41 @@ function register(): void {
     await editor.document.save();
   });
 
+  test('fitting the knobs moves them to the values found and offers to write them into the file', async () => {
+    // A small scene keeps the fit short; the setting is put back afterwards.
+    const config = vscode.workspace.getConfiguration('fluxel.liveRun');
+    const size = config.inspect<number>('sceneSize')?.globalValue;
+    await config.update('sceneSize', 96, vscode.ConfigurationTarget.Global);
+    try {
+      const editor = await vscode.window.showTextDocument(await vscode.workspace.openTextDocument(workspaceFile('edge-preserving.fluxel')), { preview: false, viewColumn: vscode.ViewColumn.One });
+      const before = editor.document.getText();
+      const r = await probe<{ fit: string; line: string; fitValues: string; knobs: string }>('liverun', JSON.stringify({ action: 'fit' }));
+      info(`${r.line}; knobs now ${r.knobs}`);
+      assert.equal(r.fit, 'done', r.line);
+      const m = /^fit: K = [-\d.e]+, sigma = [-\d.e]+ · best step \d+ · PSNR ([\d.]+) dB \(noisy input ([\d.]+) dB\)/.exec(r.line);
+      assert.ok(m, `the fit line names both ranged knobs, the best step and the PSNR: ${r.line}`);
+      assert.ok(Number(m[1]) > Number(m[2]), `the fitted setting beats the noisy input (${m[1]} dB vs ${m[2]} dB)`);
+      const found = JSON.parse(r.fitValues) as Record<string, number>;
+      assert.ok(found.K >= 0.005 && found.K <= 0.5 && found.sigma >= 0 && found.sigma <= 3, `values inside the declared ranges: ${r.fitValues}`);
+      // Info toasts hide themselves after a while, so the offer is taken from the notification list.
+      await vscode.commands.executeCommand('notifications.showList');
+      const n = await probe<{ message: string }>('liverun', JSON.stringify({ action: 'notification', text: 'Write into the file' }));
+      await vscode.commands.executeCommand('notifications.hideList');
+      info(`offer: ${n.message}`);
+      assert.match(n.message, /^Fit: K = /);
+      const after = await poll('the fitted values in the file', () => (editor.document.getText() !== before ? editor.document.getText() : null));
+      const changed = after.split('\n').filter((l, i) => l !== before.split('\n')[i]);
+      info(`written: ${changed.join(' | ')}`);
+      assert.ok(changed.length >= 1 && changed.every((l) => /^param (K|sigma) = [-\d.e]+ in \[/.test(l)), 'only the fitted knobs changed');
+      await vscode.window.showTextDocument(editor.document, { preview: false, viewColumn: vscode.ViewColumn.One });
+      await vscode.commands.executeCommand('undo');
+      await poll('the file as it was after one undo', () => editor.document.getText() === before);
+      await editor.document.save();
+    } finally {
+      await config.update('sceneSize', size, vscode.ConfigurationTarget.Global);
+    }
+  });
+
   test('while the file has errors the last run stays, dimmed, and its first error is one click away', async () => {
     const editor = await openWithLiveRun('heat-2d.fluxel');
     await probe<StateAnswer>('liverun', JSON.stringify({ action: 'state', minFrames: 41, done: true }));

@@ -104,6 +104,41 @@ export async function liveRunProbe(page, extra, outDir) {
       await button.click();
       return { clicked: await button.innerText(), ...(await facts(f)) };
     }
+    case 'fit': {
+      // Clicks "fit knobs" and waits for the fit to finish (done or failed) and for the rerun it starts.
+      const before = await facts(f);
+      await f.locator('button', { hasText: 'fit knobs' }).first().click();
+      const d = await pollFor(page, 'the knob fit to finish', async () => {
+        const x = await facts(f);
+        return x.fit === 'done' || x.fit === 'failed' ? x : null;
+      });
+      // The page's knobs then hold the fitted values (the host moved them and reran).
+      const after = d.fit === 'done' ? await pollFor(page, 'the knobs at the fitted values', async () => {
+        const x = await facts(f);
+        const found = JSON.parse(x.fitValues || '{}');
+        const knobs = JSON.parse(x.knobs || '{}');
+        return Object.keys(found).length > 0 && Object.entries(found).every(([k, v]) => knobs[k] === v) ? x : null;
+      }) : d;
+      return { ...after, before: before.runId, line: await f.locator('.fit-status').innerText() };
+    }
+    case 'notification': {
+      // A button of a workbench notification (outside the webview) by its text.
+      const find = async () => {
+        const b = page.locator('.notifications-toasts .monaco-button, .notifications-center .monaco-button', { hasText: req.text }).first();
+        return (await b.count()) > 0 && (await b.isVisible()) ? b : null;
+      };
+      let button = null;
+      try {
+        button = await pollFor(page, `a notification with "${req.text}"`, find);
+      } catch (err) {
+        await page.screenshot({ path: join(outDir, 'probe-failed-notification.png') }).catch(() => {});
+        const texts = await page.locator('.notification-list-item').allInnerTexts().catch(() => []);
+        throw new Error(`${err.message}; notifications: ${JSON.stringify(texts)}`);
+      }
+      const message = await page.locator('.notification-list-item-message', { hasText: 'Fit' }).first().innerText().catch(() => '');
+      await button.click();
+      return { clicked: req.text, message };
+    }
     case 'problems': {
       // The page marks itself stale and shows the first error; clicking it reveals the error in the editor.
       await pollFor(page, 'the stale mark and the first error', () => f.evaluate(() => document.body.classList.contains('stale') && !document.querySelector('.problems').hidden));

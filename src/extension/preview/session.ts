@@ -577,18 +577,27 @@ export class PreviewSession {
       this.rememberKnobs();
       this.postScheme();
       this.startRun();
-      const shown = Object.entries(r.values).map(([k, v]) => `${k} = ${Number(v.toPrecision(4))}`).join(', ');
-      const summary = `Fit: ${shown}, best step ${r.step}, PSNR ${r.best.toFixed(2)} dB (noisy input ${r.noisy.toFixed(2)} dB).`;
-      if (this.env.offerWrite && (await this.env.offerWrite(summary)) && !this.disposed && this.env.applyEdits) {
-        const text = this.text;
-        const out = knobEdits(parse(text).program, r.values, null);
-        if (out.length) await this.env.applyEdits(out, text);
-      }
+      await this.offerWriteBack(r);
     } catch (err) {
       if (this.fitting !== me) return;
       this.fitting = null;
       const cancelled = abort.signal.aborted;
       this.env.post({ ...base, status: cancelled ? 'cancelled' : 'failed', evaluations, message: cancelled ? null : err instanceof Error ? err.message : String(err) });
+    }
+  }
+
+  /** Offers to write fitted values into the file, as one undoable edit on the text current when the user accepts. */
+  private async offerWriteBack(r: FitOutcome): Promise<void> {
+    const shown = Object.entries(r.values).map(([k, v]) => `${k} = ${Number(v.toPrecision(4))}`).join(', ');
+    const summary = `Fit: ${shown}, best step ${r.step}, PSNR ${r.best.toFixed(2)} dB (noisy input ${r.noisy.toFixed(2)} dB).`;
+    try {
+      if (!this.env.offerWrite || !(await this.env.offerWrite(summary)) || this.disposed || !this.env.applyEdits) return;
+      const text = this.text;
+      const out = knobEdits(parse(text).program, r.values, null);
+      if (out.length) await this.env.applyEdits(out, text);
+    } catch (err) {
+      this.env.log?.(`fit write-back failed: ${String(err)}`);
+      this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `The fitted values could not be written: ${err instanceof Error ? err.message : String(err)}` });
     }
   }
 
