@@ -1,7 +1,7 @@
 // Real-editor tests of the live run panel: open an example and its live run, a frame that is not blank and differs
-// from the input, a knob that reruns, a finding of a scheme over its limit that moves the editor selection to the
-// update line, and screenshots in the dark and light themes checked for content. Browser facts come from the
-// driver's "liverun" probe (test/tools/preview-probe.mjs).
+// from the input, a knob that reruns, a knob fit whose values are offered and written back, a finding of a scheme
+// over its limit that moves the editor selection to the update line, and screenshots in the dark and light themes
+// checked for content. Browser facts come from the driver's "liverun" probe (test/tools/preview-probe.mjs).
 //
 // The tests register one microtask after this module loads, so they run after the suite's other tests (which
 // look at the editor without a panel beside it); the last one closes the panel and restores the theme.

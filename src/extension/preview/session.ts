@@ -1,6 +1,7 @@
 // One live run per scheme document, free of vscode: checks the text, starts engine runs (debounced edits, knob
 // moves, input changes), cancels the old run, streams frames to an injected poster, keeps the full-resolution
-// frames for the weights inspector, and answers the webview's intents. The panel (previewPanel.ts) wires it to
+// frames for the weights inspector, answers the webview's intents and runs knob fits through an injected fitter
+// (off the host thread; a newer fit or dispose() cancels one in flight). The panel (previewPanel.ts) wires it to
 // VS Code; the bench and the unit tests drive it directly. Must not import vscode or the DOM.
 
 import type { FieldSnapshot, WorkerRunOptions } from '../../engine/worker/protocol';

@@ -1,6 +1,8 @@
 // The live run's host orchestration without VS Code or threads: a fake engine and a fake analysis record what the
 // session asks for, so debounce, stale-run dropping, cancellation, respawn on long steps, knob and input changes,
-// errors, the weights request on the full-resolution state, knob edits and replay are checked message by message.
+// errors, the weights request on the full-resolution state, knob edits and replay are checked message by message;
+// a fake fitter checks knob fits (the job it gets, knobs moved, the write-back offer, cancellation) and the backend
+// setting is checked on the run options.
 
 import { afterEach, describe, expect, it, vi } from 'vitest';
 import type { FieldSnapshot, WorkerRunOptions } from '../../../src/engine/worker/protocol';
