@@ -1,12 +1,14 @@
 // The real-editor suite: runs inside VS Code's extension host with the packaged extension installed, and checks
 // through the editor itself what a user sees: token colours, diagnostics at exact ranges, the dt quick fix and its
-// undo, hovers (limit, diffusivity plot), the verdict in the status bar, the run lens, and a screenshot.
+// undo, hovers (limit, diffusivity plot), the verdict in the status bar, the run lens, and a screenshot; the live run
+// (preview.ts) and the export command (export.ts) have their own files.
 // Entry point compatible with @vscode/test-electron: `run()` resolves when every test passed.
 
 import * as assert from 'node:assert/strict';
 import * as vscode from 'vscode';
 import { info, poll, probe, runAll, test } from './harness';
 import './preview';
+import './export';
 
 const EXTENSION_ID = 'fluxel-dev.fluxel';
 
