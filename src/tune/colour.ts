@@ -1,5 +1,6 @@
-// The heat map's colour map, of our own definition: five anchor colours in the Oklab space with lightness
-// rising evenly from a dark blue to a pale yellow, interpolated linearly in Oklab and converted to sRGB.
+// The heat map's colour map, of our own definition ("pine to sand"): five anchor colours in the Oklab space with
+// lightness rising evenly from a dark pine green through moss and olive to sand and a pale cream, interpolated
+// linearly in Oklab and converted to sRGB.
 // Pure; no Node, no DOM.
 //
 // Why Oklab: equal steps in its lightness L look like equal steps in brightness, so a map whose L rises
@@ -10,13 +11,13 @@
 
 export type Rgb = [number, number, number];
 
-/** Anchors (L, a, b) in Oklab; L rises by equal steps, hue turns from blue through teal and green to yellow. */
+/** Anchors (L, a, b) in Oklab; L rises by equal steps, hue turns from pine green through moss and olive to sand. */
 export const ANCHORS: readonly (readonly [number, number, number])[] = [
-  [0.27, 0.02, -0.11],
-  [0.43, -0.05, -0.08],
-  [0.59, -0.1, 0.0],
-  [0.75, -0.08, 0.1],
-  [0.91, -0.02, 0.15],
+  [0.27, -0.04, 0.0],
+  [0.43, -0.06, 0.04],
+  [0.59, -0.03, 0.09],
+  [0.75, 0.02, 0.1],
+  [0.91, 0.01, 0.06],
 ];
 
 /** Oklab to linear-light sRGB (Ottosson 2020). */
