@@ -94,8 +94,7 @@ class FluxelParser extends EmbeddedActionsParser {
     { ALT: () => this.SUBRULE(this.gridDecl) },
     { ALT: () => this.SUBRULE(this.spacingDecl) },
     { ALT: () => this.SUBRULE(this.boundaryDecl) },
-    { ALT: () => this.SUBRULE(this.paramDecl) },
-    { ALT: () => this.SUBRULE(this.stepDecl) },
+    { ALT: () => this.SUBRULE(this.valueDecl) },
     { ALT: () => this.SUBRULE(this.stepsDecl) },
     { ALT: () => this.SUBRULE(this.untilDecl) },
     { ALT: () => this.SUBRULE(this.fieldDecl) },
@@ -138,8 +137,12 @@ class FluxelParser extends EmbeddedActionsParser {
       : null);
   }, { recoveryValueFunc: () => null });
 
-  paramDecl = this.RULE('paramDecl', (): A.Decl | null => {
-    const kw = this.CONSUME(T.Param);
+  /** `param NAME = NUMBER [in [LO, HI]]` and `step dt = NUMBER [in [LO, HI]]` share one shape. */
+  valueDecl = this.RULE('valueDecl', (): A.Decl | null => {
+    const kw = this.OR([
+      { ALT: () => this.CONSUME(T.Param) },
+      { ALT: () => this.CONSUME(T.Step) },
+    ]);
     const name = this.CONSUME(T.Identifier);
     this.CONSUME(T.Equals);
     const value = this.SUBRULE(this.signedNumber);
@@ -149,26 +152,10 @@ class FluxelParser extends EmbeddedActionsParser {
     });
     return this.ACTION(() => {
       const id = this.ident(name);
-      if (!id || !value) return null;
-      const end = bounds?.range ?? value.range;
-      return { kind: 'param', name: id, value, bounds: bounds ?? null, range: this.span(this.tr(kw), end) };
-    });
-  }, { recoveryValueFunc: () => null });
-
-  stepDecl = this.RULE('stepDecl', (): A.Decl | null => {
-    const kw = this.CONSUME(T.Step);
-    const name = this.CONSUME(T.Identifier);
-    this.CONSUME(T.Equals);
-    const value = this.SUBRULE(this.signedNumber);
-    const bounds = this.OPTION(() => {
-      this.CONSUME(T.In);
-      return this.SUBRULE(this.rangeLit);
-    });
-    return this.ACTION(() => {
-      const id = this.ident(name);
-      if (!id || !value) return null;
-      const end = bounds?.range ?? value.range;
-      return { kind: 'step', name: id, value, bounds: bounds ?? null, range: this.span(this.tr(kw), end) };
+      if (!id || !value || !usable(kw)) return null;
+      const range = this.span(this.tr(kw), bounds?.range ?? value.range);
+      const kind = kw.tokenType === T.Param ? 'param' : 'step';
+      return { kind, name: id, value, bounds: bounds ?? null, range };
     });
   }, { recoveryValueFunc: () => null });
 
