@@ -381,7 +381,8 @@ export function vonNeumann(model: DtModel, dims: 1 | 2, dtRef: number, perHalf =
     for (let k = 0; k < 2 * n; k++) mus[f * 2 * n + k] = ev[k];
     for (let k = 0; k < n; k++) muScale = Math.max(muScale, Math.hypot(ev[2 * k], ev[2 * k + 1]));
   }
-  const growTol = 1e-10 * Math.max(muScale, 1e-300);
+  // Relative to the largest rate; when every rate is zero, rounding noise must not count as growth.
+  const growTol = muScale > 0 ? 1e-10 * muScale : 1e-14;
   let growth: GrowthInfo | null = null;
   const growingAt = new Int32Array(F);
   for (let f = 0; f < F; f++) {

@@ -355,3 +355,22 @@ b' = b + dt * (Db * (sum n in N4: b[n] - b) + a * b^2 - (F + k) * b)
     close(r.diffusionLimit, 1 / (4 * Math.max(Da, Db)), 1e-9, 'Gray–Scott diffusion limit');
   });
 });
+
+// Several identical, uncoupled 5-point heat fields have the single field's limit r ≤ 1/4 (Morton & Mayers 2005,
+// ch. 2; the amplification matrix is diagonal); a scheme whose updates leave every field unchanged is stable for
+// every dt (G = I). Both once suffered from repeated eigenvalues found by root iteration.
+describe('repeated eigenvalues of uncoupled fields', () => {
+  it('four uncoupled heat fields: limit 1/4 exactly', () => {
+    const src = ['grid 2d', 'step dt = 0.2', 'steps 3', ...['a', 'b', 'c', 'd'].flatMap((f) => [`field ${f} = 0`, `${f}' = ${f} + dt * sum n in N4: ${f}[n] - ${f}`])].join('\n');
+    const r = analyseStability(parseAndCheck(src).scheme!);
+    expect(r.method).toBe('von-neumann');
+    expect(Math.abs((r.limit ?? NaN) - 0.25) <= 1e-9, `limit ${r.limit}, expected 0.25 within 1e-9`).toBe(true);
+  });
+
+  it('three fields kept constant: stable for every dt, no growth reported', () => {
+    const src = ['grid 2d', 'step dt = 0.1', 'steps 3', ...['a', 'b', 'c'].flatMap((f) => [`field ${f} = 0`, `${f}' = ${f}`])].join('\n');
+    const r = analyseStability(parseAndCheck(src).scheme!);
+    expect(r.unconditional).toBe(true);
+    expect(r.stable).toBe(true);
+  });
+});

@@ -33,3 +33,22 @@ it('ghost indices follow the reflect and periodic tables of numerics.md', () => 
   expect(periodic).toEqual([0, 3, 0, 3]);
   expect(ghostIndex(-1, 4, { kind: 'fixed', value: 0.5 })).toBe(-1);
 });
+
+// The eigenvalues of a block-triangular matrix are those of its diagonal blocks (common practice, any linear
+// algebra text). Three uncoupled fields with the same rate give a triple eigenvalue, which polynomial root
+// iteration only finds to about 1e-5; the block split must give it to rounding.
+it('a triangular 3×3 with a triple eigenvalue gives it to rounding', () => {
+  const m = cmatrix(3);
+  m.re.set([-0.8, 0, 0, 0.3, -0.8, 0, 0, 0.5, -0.8]);
+  const ev = eigenvalues(m);
+  expect(ev.length).toBe(3);
+  for (const [a, b] of ev) expect(Math.hypot(a + 0.8, b) <= 1e-15, `eigenvalue ${a}+${b}i, expected -0.8 within 1e-15`).toBe(true);
+});
+
+it('an uncoupled 4×4 (two 2×2 rotations) keeps the eigenvalues of each block', () => {
+  const m = cmatrix(4);
+  const c = Math.cos(0.7), s = Math.sin(0.7);
+  m.re.set([c, -s, 0, 0, s, c, 0, 0, 0, 0, c, -s, 0, 0, s, c]);
+  const mods = eigenvalues(m).map(([a, b]) => Math.hypot(a, b));
+  for (const r of mods) expect(Math.abs(r - 1) <= 1e-15, `modulus ${r}, expected 1 within 1e-15`).toBe(true);
+});
