@@ -100,10 +100,18 @@ export function runMain(argv: string[]): Promise<number> {
       return 1;
     }
     const scheme = checked.scheme;
-    for (const name of Object.keys(params)) {
-      if (!scheme.params.some(p => p.name === name)) {
-        throw new UsageError(`--set ${name}: the scheme has no parameter '${name}' (parameters: ${scheme.params.map(p => p.name).join(', ') || 'none'}).`);
+    for (const [name, value] of Object.entries(params)) {
+      const p = scheme.params.find(q => q.name === name);
+      if (!p) {
+        throw new UsageError(`--set ${name}: the scheme has no parameter '${name}' (parameters: ${scheme.params.map(q => q.name).join(', ') || 'none'}).`);
       }
+      // A declared range is the range the scheme was designed for; running outside it is allowed, but said.
+      if (p.lo !== null && p.hi !== null && (value < p.lo || value > p.hi)) {
+        process.stderr.write(`fluxel run: note: --set ${name}=${value} lies outside its declared range [${p.lo}, ${p.hi}].\n`);
+      }
+    }
+    if (dt !== undefined && scheme.dtBounds && (dt < scheme.dtBounds.lo || dt > scheme.dtBounds.hi)) {
+      process.stderr.write(`fluxel run: note: --set dt=${dt} lies outside its declared range [${scheme.dtBounds.lo}, ${scheme.dtBounds.hi}].\n`);
     }
     if (o.field !== undefined && !scheme.fields.some(f => f.name === o.field)) {
       throw new UsageError(`--field ${o.field}: the scheme has no field '${o.field}'.`);

@@ -29,6 +29,15 @@ interface Stats {
 }
 
 describe('fluxel run (built bundle)', () => {
+  it('runs --set values outside the declared ranges, and says so', () => {
+    const r = fluxel('run', join(ROOT, 'examples/heat-2d.fluxel'), '--set', 'dt=0.01', '--size', '12x10', '--output', 'outside.pfm');
+    expect(r.code, r.stderr).toBe(0);
+    expect(r.stderr).toContain('--set dt=0.01 lies outside its declared range [0.02, 0.3]');
+    const inside = fluxel('run', join(ROOT, 'examples/heat-2d.fluxel'), '--set', 'dt=0.1', '--size', '12x10', '--output', 'inside.pfm');
+    expect(inside.code, inside.stderr).toBe(0);
+    expect(inside.stderr).toBe('');
+  });
+
   it('builds the engine worker bundle beside the CLI', () => {
     expect(existsSync(join(ROOT, 'dist/engine-worker.js'))).toBe(true);
   });
