@@ -3,6 +3,7 @@
 
 import { readFileSync } from 'node:fs';
 import { parseAndCheck } from '../notation';
+import type { Program } from '../notation/ast';
 import type { Diagnostic } from '../notation/diagnostics';
 import { guard, parseCommandLine, UsageError } from './args';
 import { stabilityForCheck } from './stabilityHook';
@@ -34,7 +35,15 @@ export function checkMain(argv: string[]): Promise<number> {
         file,
         diagnostics: diagnostics.map(jsonDiagnostic),
       };
-      if (stability) out.stability = stability.report;
+      // The shape always has `stability` (contracts.md §4); while the file has errors no analysis runs.
+      out.stability = stability ? stability.report : {
+        method: 'none',
+        limit: null,
+        dt: declaredStep(result.program),
+        stable: false,
+        worst: null,
+        reason: 'The scheme has errors, so no stability analysis was run.',
+      };
       process.stdout.write(JSON.stringify(out, null, 2) + '\n');
     } else {
       for (const d of diagnostics) process.stdout.write(formatDiagnostic(file, d) + '\n');
@@ -44,6 +53,12 @@ export function checkMain(argv: string[]): Promise<number> {
     }
     return errors > 0 ? 1 : 0;
   });
+}
+
+/** The `step dt = ...` value as written, or null when there is none. */
+function declaredStep(program: Program): number | null {
+  for (const d of program.decls) if (d.kind === 'step') return d.value.value;
+  return null;
 }
 
 export function formatDiagnostic(file: string, d: Diagnostic): string {

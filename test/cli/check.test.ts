@@ -40,6 +40,10 @@ describe('fluxel check on the examples', () => {
       const j = JSON.parse(r.stdout);
       expect(j.file).toBe(`examples/${ex}`);
       expect(Array.isArray(j.diagnostics)).toBe(true);
+      expect(['von-neumann', 'positivity', 'linearised']).toContain(j.stability.method);
+      expect(typeof j.stability.dt).toBe('number');
+      expect(typeof j.stability.stable).toBe('boolean');
+      expect(typeof j.stability.reason).toBe('string');
       for (const d of j.diagnostics) {
         expect(['error', 'warning', 'info']).toContain(d.severity);
         expect(typeof d.code).toBe('string');
@@ -64,6 +68,7 @@ describe('fluxel check on broken input', () => {
     const r = fluxel('check', file, '--json');
     expect(r.code).toBe(1);
     const j = JSON.parse(r.stdout);
+    expect(j.stability).toEqual({ method: 'none', limit: null, dt: 0.1, stable: false, worst: null, reason: 'The scheme has errors, so no stability analysis was run.' });
     const d = j.diagnostics.find((x: { code: string }) => x.code === 'unknown-name');
     expect(d).toEqual({
       severity: 'error',
