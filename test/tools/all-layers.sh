@@ -48,7 +48,7 @@ layer() {
 }
 
 say "layer: typecheck"
-if npx tsc -p tsconfig.json --noEmit; then echo "typecheck: 1 passed, 0 failed"; else echo "typecheck: 0 passed, 1 failed"; status=1; fi
+if npm run --silent typecheck; then echo "typecheck: 1 passed, 0 failed"; else echo "typecheck: 0 passed, 1 failed"; status=1; fi
 
 layer unit test/unit test/architecture
 layer reference test/reference
