@@ -6,8 +6,19 @@ import { parseArgs, type ParseArgsConfig } from 'node:util';
 export class UsageError extends Error {}
 
 export function parseCommandLine<T extends NonNullable<ParseArgsConfig['options']>>(argv: string[], options: T, usageText: string) {
+  // `--steps -1` or `--set -0.5`: a value that starts with a minus sign would be read as an option; join it to its
+  // option (`--steps=-1`) so the command can say what is wrong with the value itself.
+  const args: string[] = [];
+  for (let i = 0; i < argv.length; i++) {
+    const name = argv[i].startsWith('--') ? argv[i].slice(2) : null;
+    const opt = name !== null ? (options as Record<string, { type?: string }>)[name] : undefined;
+    if (opt?.type === 'string' && i + 1 < argv.length && /^-(\d|\.\d)/.test(argv[i + 1])) {
+      args.push(`${argv[i]}=${argv[i + 1]}`);
+      i++;
+    } else args.push(argv[i]);
+  }
   try {
-    return parseArgs({ args: argv, options, allowPositionals: true, strict: true });
+    return parseArgs({ args, options, allowPositionals: true, strict: true });
   } catch (err) {
     throw new UsageError(`${err instanceof Error ? err.message : String(err)}\n${usageText}`);
   }
