@@ -5,7 +5,7 @@ import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { afterAll, describe, it } from 'vitest';
+import { afterAll, beforeEach, describe, expect, it } from 'vitest';
 import { createRun } from '../../../src/engine/run';
 import { expectClose, randomImage, schemeOf } from '../../unit/engine/util';
 
@@ -30,6 +30,10 @@ function scipyBlur(img: { width: number; height: number; data: Float64Array }, s
 }
 
 describe('blur vs scipy.ndimage.gaussian_filter', () => {
+  // Every case compares through expectClose; make sure each one really asserted something.
+  beforeEach(() => {
+    expect.hasAssertions();
+  });
   // Tolerance 1e-12 absolute on data in [0, 1): same taps, sums in a different order (Float64).
   const cases: [string, string, number, number, number, number][] = [
     // [engine boundary, scipy mode, cval, sigma, width, height]
