@@ -57,25 +57,34 @@ export async function liveRunProbe(page, extra, outDir) {
   switch (req.action) {
     case 'state': {
       // Wait for a finished run (or at least `minFrames` frames), then compare the picture now with the start view.
-      const d = await pollFor(page, `a run with ${req.minFrames ?? 2} frames`, async () => {
-        const x = await facts(f);
-        return Number(x.frames) >= (req.minFrames ?? 2) && (!req.done || x.status === 'done') ? x : null;
-      });
-      const picture = f.locator('canvas.picture');
-      await picture.press('n');
-      const now = await canvasPixels(f);
-      await picture.press('s');
-      await pollFor(page, 'the start view', async () => (await facts(f)).view === 'start');
-      const start = await canvasPixels(f);
-      await picture.press('c');
-      const change = await canvasPixels(f);
-      await picture.press('n');
-      let diff = 0;
-      for (let i = 0; i < Math.min(now.data.length, start.data.length); i++) diff += Math.abs(now.data[i] - start.data[i]);
-      return {
-        ...d, canvas: { width: now.width, height: now.height }, nowColours: now.colours, startColours: start.colours, changeColours: change.colours,
-        painted: now.painted, meanAbsDiff: diff / Math.max(1, now.data.length),
-      };
+      // The pictures must come from one steady run: if the page re-received its frames (a replay after it was shown
+      // again) or a new run began while they were read, read them again (at most three times).
+      for (let attempt = 1; ; attempt++) {
+        const d = await pollFor(page, `a run with ${req.minFrames ?? 2} frames`, async () => {
+          const x = await facts(f);
+          return Number(x.frames) >= (req.minFrames ?? 2) && (!req.done || x.status === 'done') ? x : null;
+        });
+        const picture = f.locator('canvas.picture');
+        await picture.press('n');
+        const now = await canvasPixels(f);
+        const mid = await facts(f);
+        await picture.press('s');
+        await pollFor(page, 'the start view', async () => (await facts(f)).view === 'start');
+        const start = await canvasPixels(f);
+        await picture.press('c');
+        const change = await canvasPixels(f);
+        await picture.press('n');
+        const after = await facts(f);
+        const steady = [mid, after].every((x) => x.step === d.step && x.frames === d.frames && x.status === d.status);
+        if (!steady && attempt < 3) continue;
+        let diff = 0;
+        for (let i = 0; i < Math.min(now.data.length, start.data.length); i++) diff += Math.abs(now.data[i] - start.data[i]);
+        return {
+          ...d, canvas: { width: now.width, height: now.height }, nowColours: now.colours, startColours: start.colours, changeColours: change.colours,
+          painted: now.painted, meanAbsDiff: diff / Math.max(1, now.data.length), attempts: attempt, steady,
+          during: `step ${mid.step}/${after.step}, frames ${mid.frames}/${after.frames}, status ${mid.status}/${after.status}`,
+        };
+      }
     }
     case 'knob': {
       const before = await facts(f);
