@@ -285,20 +285,26 @@ export class Run {
     return this.status === 'running';
   }
 
+  /** One step with its callbacks (warnings, progress, frame capture); false when cancelled before stepping. */
+  private advance(cb: RunCallbacks): boolean {
+    if (cb.shouldCancel?.()) {
+      this.status = 'cancelled';
+      return false;
+    }
+    const before = this.warnings.length;
+    this.step();
+    for (let k = before; k < this.warnings.length; k++) cb.onWarning?.(this.warnings[k]);
+    cb.onProgress?.(this.stepIndex, this.steps);
+    const last = this.stepIndex === this.steps || this.status !== 'running';
+    if (last || (this.every > 0 && this.stepIndex % this.every === 0)) this.recordFrame(cb);
+    return true;
+  }
+
   /** Runs to the end (or cancellation, or blow-up) on the calling thread. */
   runSync(cb: RunCallbacks = {}): RunResult {
     this.recordFrame(cb);
     while (this.stepIndex < this.steps && this.status === 'running') {
-      if (cb.shouldCancel?.()) {
-        this.status = 'cancelled';
-        break;
-      }
-      const before = this.warnings.length;
-      this.step();
-      for (let k = before; k < this.warnings.length; k++) cb.onWarning?.(this.warnings[k]);
-      cb.onProgress?.(this.stepIndex, this.steps);
-      const last = this.stepIndex === this.steps || this.status !== 'running';
-      if (last || (this.every > 0 && this.stepIndex % this.every === 0)) this.recordFrame(cb);
+      if (!this.advance(cb)) break;
     }
     if (this.status === 'running') this.status = 'done';
     return this.result();
@@ -309,16 +315,7 @@ export class Run {
     this.recordFrame(cb);
     let sliceStart = performance.now();
     while (this.stepIndex < this.steps && this.status === 'running') {
-      if (cb.shouldCancel?.()) {
-        this.status = 'cancelled';
-        break;
-      }
-      const before = this.warnings.length;
-      this.step();
-      for (let k = before; k < this.warnings.length; k++) cb.onWarning?.(this.warnings[k]);
-      cb.onProgress?.(this.stepIndex, this.steps);
-      const last = this.stepIndex === this.steps || this.status !== 'running';
-      if (last || (this.every > 0 && this.stepIndex % this.every === 0)) this.recordFrame(cb);
+      if (!this.advance(cb)) break;
       if (performance.now() - sliceStart > sliceMs) {
         await new Promise<void>(resolve => setTimeout(resolve, 0));
         sliceStart = performance.now();
