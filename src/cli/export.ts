@@ -3,27 +3,16 @@
 // Exit 0 ok, 1 input errors (diagnostics, a construct that cannot export), 2 usage. Node-only front end.
 
 import { createHash } from 'node:crypto';
-import { promises as fs, readFileSync } from 'node:fs';
+import { readFileSync } from 'node:fs';
 import * as path from 'node:path';
 import { analyseStability } from '../analysis/stability';
 import { ExportError, exportScheme, TARGETS, type Target } from '../export';
+import { writeFileAtomically } from '../images/files';
 import { parseAndCheck } from '../notation';
 import { guard, parseCommandLine, UsageError } from './args';
 import { formatDiagnostic } from './check';
 
 const USAGE = 'usage: fluxel export FILE --to c|numpy|dask|js [--out PATH] [--float64]   (without --out the code goes to stdout)';
-
-/** Writes text to a temporary file beside `file` and renames it over, so `file` is replaced only on success. */
-async function writeAtomically(file: string, text: string): Promise<void> {
-  const tmp = path.join(path.dirname(file), `.${path.basename(file)}.${process.pid}.tmp`);
-  try {
-    await fs.writeFile(tmp, text);
-    await fs.rename(tmp, file);
-  } catch (err) {
-    await fs.rm(tmp, { force: true });
-    throw err;
-  }
-}
 
 export function exportMain(argv: string[]): Promise<number> {
   return guard('export', async () => {
@@ -71,7 +60,7 @@ export function exportMain(argv: string[]): Promise<number> {
       }
       throw err;
     }
-    if (o.out) await writeAtomically(o.out, code);
+    if (o.out) await writeFileAtomically(o.out, code);
     else process.stdout.write(code);
     return 0;
   });

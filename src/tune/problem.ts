@@ -11,6 +11,7 @@ import { parseAndCheck } from '../notation';
 import type { CheckedScheme } from '../notation/scheme';
 import { formatDiagnostic } from '../cli/check';
 import { METRICS, type MetricName } from './evaluate';
+import { GridError } from './grid';
 import type { Picture } from './protocol';
 
 /** A problem the user got wrong on the command line (exit 2) or in the input (exit 1), with one clear line. */
@@ -111,21 +112,28 @@ export function toJson(value: unknown): string {
   return JSON.stringify(value, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? (Number.isNaN(v) ? 'nan' : v > 0 ? 'inf' : '-inf') : v), 2) + '\n';
 }
 
-/** Writes bytes or text to a temporary file beside `file` and renames it over, so `file` changes only on success. */
-export async function writeAtomically(file: string, data: string | Uint8Array): Promise<void> {
-  const tmp = path.join(path.dirname(file), `.${path.basename(file)}.${process.pid}.${Date.now().toString(36)}.tmp`);
-  try {
-    await fs.writeFile(tmp, data);
-    await fs.rename(tmp, file);
-  } catch (err) {
-    await fs.rm(tmp, { force: true });
-    throw err;
-  }
-}
+/** Outputs replace existing files only once complete (the project's one atomic writer). */
+export { writeFileAtomically as writeAtomically } from '../images/files';
 
 /** Metric value for people: dB with two decimals for PSNR, four decimals for SSIM, "inf" for identical images. */
 export function showMetric(metric: MetricName, v: number): string {
   if (Number.isNaN(v)) return 'n/a';
   if (v === Infinity) return 'inf';
   return metric === 'psnr' ? `${v.toFixed(2)} dB` : v.toFixed(4);
+}
+
+/**
+ * The exit code for a tuning command's expected failures (a bad problem or grid), after printing one line;
+ * anything else is rethrown for the command's general guard.
+ */
+export function tuneFailure(command: string, err: unknown, usage: string): number {
+  if (err instanceof ProblemError) {
+    process.stderr.write(`fluxel ${command}: ${err.message}${err.exitCode === 2 ? `\n${usage}` : ''}\n`);
+    return err.exitCode;
+  }
+  if (err instanceof GridError) {
+    process.stderr.write(`fluxel ${command}: ${err.message}\n`);
+    return 2;
+  }
+  throw err;
 }
