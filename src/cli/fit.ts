@@ -2,10 +2,10 @@
 // parameters inside their declared ranges jointly with the best step, and prints them (or one JSON object).
 // Node-only front end over src/tune; must not import vscode.
 
-import { GridError, parseFree } from '../tune/grid';
+import { parseFree } from '../tune/grid';
 import { runFit } from '../tune/fit';
 import { defaultWorkers } from '../tune/pool';
-import { loadProblem, parseMetric, parseWhole, ProblemError, PROBLEM_OPTIONS, PROBLEM_USAGE, showMetric, toJson } from '../tune/problem';
+import { loadProblem, parseMetric, parseWhole, ProblemError, PROBLEM_OPTIONS, PROBLEM_USAGE, showMetric, toJson, tuneFailure } from '../tune/problem';
 import { guard, parseCommandLine, UsageError } from './args';
 
 const USAGE = [
@@ -69,15 +69,7 @@ export function fitMain(argv: string[]): Promise<number> {
       ].join('\n') + '\n');
       return 0;
     } catch (err) {
-      if (err instanceof ProblemError) {
-        process.stderr.write(`fluxel fit: ${err.message}${err.exitCode === 2 ? `\n${USAGE}` : ''}\n`);
-        return err.exitCode;
-      }
-      if (err instanceof GridError) {
-        process.stderr.write(`fluxel fit: ${err.message}\n`);
-        return 2;
-      }
-      throw err;
+      return tuneFailure('fit', err, USAGE);
     }
   });
 }

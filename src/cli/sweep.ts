@@ -4,10 +4,10 @@
 
 import { promises as fs } from 'node:fs';
 import * as path from 'node:path';
-import { GridError, parseVary } from '../tune/grid';
+import { parseVary } from '../tune/grid';
 import { encodeRgbPng, renderHeatmap } from '../tune/heatmap';
 import { defaultWorkers } from '../tune/pool';
-import { loadProblem, parseMetric, parseWhole, ProblemError, PROBLEM_OPTIONS, PROBLEM_USAGE, showMetric, toJson, writeAtomically } from '../tune/problem';
+import { loadProblem, parseMetric, parseWhole, ProblemError, PROBLEM_OPTIONS, PROBLEM_USAGE, showMetric, toJson, tuneFailure, writeAtomically } from '../tune/problem';
 import { runSweep, sweepCsv, sweepHeatmap, sweepSummary } from '../tune/sweep';
 import { guard, parseCommandLine, UsageError } from './args';
 
@@ -78,15 +78,7 @@ export function sweepMain(argv: string[]): Promise<number> {
       process.stdout.write(lines.join('\n') + '\n');
       return 0;
     } catch (err) {
-      if (err instanceof ProblemError) {
-        process.stderr.write(`fluxel sweep: ${err.message}${err.exitCode === 2 ? `\n${USAGE}` : ''}\n`);
-        return err.exitCode;
-      }
-      if (err instanceof GridError) {
-        process.stderr.write(`fluxel sweep: ${err.message}\n`);
-        return 2;
-      }
-      throw err;
+      return tuneFailure('sweep', err, USAGE);
     }
   });
 }
