@@ -8,28 +8,9 @@
 import * as assert from 'node:assert/strict';
 import * as vscode from 'vscode';
 import { info, poll, test } from './harness';
+import { heatScheme, workspaceFile } from './workspace';
 
 interface ExportResult { status: string; file?: string; message?: string }
-
-const SCHEME = (dt: string): string => [
-  '# Heat flow exported by the editor test.',
-  'grid 2d',
-  'spacing 1',
-  'boundary reflect',
-  `step dt = ${dt} in [0.02, 0.3]`,
-  'steps 40',
-  '',
-  'field u = image',
-  '',
-  "u' = u + dt / h^2 * sum n in N4: u[n] - u",
-  '',
-].join('\n');
-
-function workspaceFile(name: string): vscode.Uri {
-  const folder = vscode.workspace.workspaceFolders?.[0];
-  assert.ok(folder, 'the test workspace is open');
-  return vscode.Uri.joinPath(folder.uri, name);
-}
 
 async function readText(uri: vscode.Uri): Promise<string> {
   return new TextDecoder().decode(await vscode.workspace.fs.readFile(uri));
@@ -48,7 +29,7 @@ function register(): void {
   test('Export Scheme as Code writes the current text next to the scheme and never replaces it unasked', async () => {
     const scheme = workspaceFile('export-me.fluxel');
     const out = workspaceFile('export-me.c');
-    await vscode.workspace.fs.writeFile(scheme, new TextEncoder().encode(SCHEME('0.2')));
+    await vscode.workspace.fs.writeFile(scheme, new TextEncoder().encode(heatScheme('0.2')));
     try { await vscode.workspace.fs.delete(out); } catch { /* not there yet */ }
     const editor = await vscode.window.showTextDocument(await vscode.workspace.openTextDocument(scheme), { preview: false, viewColumn: vscode.ViewColumn.One });
     try {

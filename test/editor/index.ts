@@ -7,16 +7,11 @@
 import * as assert from 'node:assert/strict';
 import * as vscode from 'vscode';
 import { info, poll, probe, runAll, test } from './harness';
+import { heatScheme, workspaceFile } from './workspace';
 import './preview';
 import './export';
 
 const EXTENSION_ID = 'fluxel-dev.fluxel';
-
-function workspaceFile(name: string): vscode.Uri {
-  const folder = vscode.workspace.workspaceFolders?.[0];
-  assert.ok(folder, 'the test workspace is open');
-  return vscode.Uri.joinPath(folder.uri, name);
-}
 
 async function writeScheme(name: string, text: string): Promise<vscode.TextEditor> {
   const uri = workspaceFile(name);
@@ -34,22 +29,8 @@ function hoverText(hovers: vscode.Hover[]): string {
   return hovers.flatMap((h) => h.contents.map((c) => (typeof c === 'string' ? c : c.value))).join('\n');
 }
 
-const HEAT = (dt: string): string => [
-  '# Heat flow used by the editor tests.',
-  'grid 2d',
-  'spacing 1',
-  'boundary reflect',
-  `step dt = ${dt} in [0.02, 0.3]`,
-  'steps 40',
-  '',
-  'field u = image',
-  '',
-  "u' = u + dt / h^2 * sum n in N4: u[n] - u",
-  '',
-].join('\n');
-
 test('the extension activates on opening a scheme and reports its activation time', async () => {
-  await writeScheme('heat-check.fluxel', HEAT('0.2'));
+  await writeScheme('heat-check.fluxel', heatScheme('0.2'));
   const ext = vscode.extensions.getExtension<{ activationMs: number; coreLoadMs(): number | null; analysisThread(): string | null }>(EXTENSION_ID);
   assert.ok(ext, 'the packaged extension is installed');
   const api = await poll('activation', () => ext.isActive && ext.exports);
@@ -83,7 +64,7 @@ test('the grammar colours keywords, numbers, comments and names differently', as
 });
 
 test('a broken line gives a diagnostic at the exact range', async () => {
-  const editor = await writeScheme('broken.fluxel', HEAT('0.2').replace("u' = u + dt / h^2", "u' = u + dtt / h^2"));
+  const editor = await writeScheme('broken.fluxel', heatScheme('0.2').replace("u' = u + dt / h^2", "u' = u + dtt / h^2"));
   const uri = editor.document.uri;
   const [d] = await poll('the unknown-name diagnostic', () => { const ds = fluxelDiagnostics(uri, 'unknown-name'); return ds.length ? ds : null; });
   assert.equal(d.severity, vscode.DiagnosticSeverity.Error);
@@ -100,7 +81,7 @@ test('a broken line gives a diagnostic at the exact range', async () => {
 });
 
 test('the dt quick fix sets dt to the limit, and undo restores the file', async () => {
-  const editor = await writeScheme('heat-over.fluxel', HEAT('0.3'));
+  const editor = await writeScheme('heat-over.fluxel', heatScheme('0.3'));
   const doc = editor.document;
   const original = doc.getText();
   const [d] = await poll('the over-the-limit warning', () => { const ds = fluxelDiagnostics(doc.uri, 'step-over-limit'); return ds.length ? ds : null; });

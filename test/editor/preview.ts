@@ -9,12 +9,7 @@
 import * as assert from 'node:assert/strict';
 import * as vscode from 'vscode';
 import { info, poll, probe, test } from './harness';
-
-function workspaceFile(name: string): vscode.Uri {
-  const folder = vscode.workspace.workspaceFolders?.[0];
-  assert.ok(folder, 'the test workspace is open');
-  return vscode.Uri.joinPath(folder.uri, name);
-}
+import { workspaceFile } from './workspace';
 
 async function openWithLiveRun(name: string, text?: string): Promise<vscode.TextEditor> {
   const uri = workspaceFile(name);
