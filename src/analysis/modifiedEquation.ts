@@ -474,7 +474,8 @@ export function modifiedEquation(scheme: CheckedScheme, opts: FrozenOptions = {}
       }
     }
 
-    const drift = scheme.dims === 2 ? [-coefOf(M[1], 1, 0), -coefOf(M[1], 0, 1)] : [-coefOf(M[1], 1, 0)];
+    const neg = (v: number) => (v === 0 ? 0 : -v);
+    const drift = scheme.dims === 2 ? [neg(coefOf(M[1], 1, 0)), neg(coefOf(M[1], 0, 1))] : [neg(coefOf(M[1], 1, 0))];
     // Diffusion tensor: u_t = Dxx u_xx + 2 Dxy u_xy + Dyy u_yy; the xy moment is 2·Dxy.
     const D2 = M[2];
     const diffusion = scheme.dims === 2
