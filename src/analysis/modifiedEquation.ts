@@ -577,3 +577,29 @@ export function modifiedEquationDiagnostics(scheme: CheckedScheme, me: ModifiedE
   }
   return out;
 }
+
+/** modifiedEquation and its diagnostics for `fluxel check` and the editor; never throws (null when it cannot evaluate). */
+export function analyseWhy(scheme: CheckedScheme, opts: FrozenOptions = {}): { equation: ModifiedEquation | null; diagnostics: Diagnostic[]; error?: string } {
+  if (scheme.updates.length === 0) return { equation: null, diagnostics: [] };
+  try {
+    const equation = modifiedEquation(scheme, opts);
+    return { equation, diagnostics: modifiedEquationDiagnostics(scheme, equation) };
+  } catch (err) {
+    return { equation: null, diagnostics: [], error: err instanceof Error ? err.message : String(err) };
+  }
+}
+
+/** The JSON form of a modified equation for `fluxel check --json` ("approximates"): plain numbers and text. */
+export function modifiedEquationJson(me: ModifiedEquation): Record<string, unknown> {
+  const terms = (ts: readonly Term[]) => ts.map((t) => ({ dx: t.i, dy: t.j, coef: t.coef }));
+  return {
+    summary: me.summary, linear: me.linear, at: me.at, spacing: me.spacing, dt: me.dt,
+    fields: me.fields.map((f) => ({
+      field: f.field, equation: f.text, kind: f.kind, source: f.source, drift: f.drift, diffusion: f.diffusion, anisotropy: f.anisotropy,
+      leadingError: f.leadingError && { order: f.leadingError.order, text: f.leadingError.text, terms: terms(f.leadingError.terms), spacePart: terms(f.leadingError.spacePart), timePart: terms(f.leadingError.timePart) },
+      orderSpace: f.orderSpace, orderTime: f.orderTime,
+      moments: f.moments.map(terms),
+      modified: f.modified ? f.modified.map(terms) : null,
+    })),
+  };
+}
