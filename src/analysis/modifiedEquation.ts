@@ -456,7 +456,6 @@ export function modifiedEquation(scheme: CheckedScheme, opts: FrozenOptions = {}
           orderSpace = spacePart.length ? q - (principalOrders.filter((o) => o > 0)[0] ?? leadingOrder) : null;
         }
         orderTime = ts ? ts.p : null;
-        if (!C) timePart = [];
         const pS = readsH || h === 1 ? orderSpace : null;
         const pieces: string[] = [];
         if (spacePart.length) pieces.push(termText(spacePart, name, scheme.dims, h, pS));
