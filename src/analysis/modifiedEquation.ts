@@ -543,7 +543,9 @@ export function modifiedEquationDiagnostics(scheme: CheckedScheme, me: ModifiedE
       const perDt = f.sourceScaling !== null && Math.abs(f.sourceScaling + 1) < 0.01;
       const single = me.fields.length === 1;
       out.push({
-        range, severity: single ? 'warning' : 'info', code: 'source-term', data: { field: f.field, source: f.source },
+        // A warning for linear single-field schemes and for any term that scales like 1/dt (a slip); information for
+        // systems and for the linearised reaction of nonlinear schemes (e.g. u − u³), which are sources on purpose.
+        range, severity: perDt || (single && me.linear) ? 'warning' : 'info', code: 'source-term', data: { field: f.field, source: f.source },
         message: `The weights of ${f.field}'s spatial operator sum to ${fmt(f.source)} instead of 0: a ${f.source > 0 ? 'source' : 'sink'} term ${fmt(f.source)}·${f.field} (${f.field} ${f.source > 0 ? 'grows' : 'decays'} like e^(${fmt(f.source)}·t))${perDt ? `; it scales like 1/dt, so a term is probably not multiplied by dt (a stray ${fmt(f.source * me.dt)}·${f.field}?)` : ''}${where}.`,
       });
     }

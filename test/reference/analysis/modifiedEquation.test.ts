@@ -179,3 +179,20 @@ describe('diagnostics (issue acceptance)', () => {
     }
   });
 });
+
+describe('source terms on purpose and by mistake', () => {
+  const diags = (text: string) => {
+    const r = parseAndCheck(text);
+    return modifiedEquationDiagnostics(r.scheme!, modifiedEquation(r.scheme!)).filter((d) => d.code === 'source-term');
+  };
+  it('a stray + 0.01*u in Perona–Malik (nonlinear) is still a warning: it scales like 1/dt', () => {
+    const d = diags("grid 2d\nspacing 1\nboundary reflect\nparam K = 0.1\nstep dt = 0.2\nsteps 10\nfield u = image\ndiffusivity g(s) = 1 / (1 + (s / K)^2)\nu' = u + dt * (sum n in N4: g(u[n] - u) * (u[n] - u)) + 0.01*u\n");
+    expect(d.map((x) => x.severity)).toEqual(['warning']);
+  });
+  it('the reaction of Allen–Cahn (u − u³, multiplied by dt) is information: ∂/∂u = 1 − 3u² = 0.25 at u = 0.5', () => {
+    // The linearisation of u − u³ at u = 0.5 (the flat state's value for image fields) is 1 − 3·0.25 = 0.25 (by hand).
+    const d = diags("grid 2d\nspacing 1\nboundary reflect\nstep dt = 0.1\nsteps 10\nfield u = image\nu' = u + dt * ((sum n in N4: u[n] - u) + u - u^3)\n");
+    expect(d.map((x) => x.severity)).toEqual(['info']);
+    expect(d[0].message).toContain('0.25');
+  });
+});
