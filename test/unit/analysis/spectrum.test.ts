@@ -84,3 +84,14 @@ describe('amplitude over θ and dt (1d picture)', () => {
     expect(d.edge[2 * d.width + last] + d.edge[3 * d.width + last]).toBe(2);
   });
 });
+
+describe('frozen coefficients', () => {
+  it('Perona–Malik on the flat state has the 5-point heat map (g(0) = 1), and says where it froze', () => {
+    const pm = schemeOf(`grid 2d\nspacing 1\nboundary reflect\nparam K = 0.1\nstep dt = 0.2\nsteps 1\nfield u = image\ndiffusivity g(s) = 1 / (1 + (s / K)^2)\nu' = u + dt * sum n in N4: g(u[n] - u) * (u[n] - u)\n`);
+    const a = frequencyMap(pm, { samples: 17 });
+    const b = frequencyMap(schemeOf(heat2d(0.2)), { samples: 17 });
+    expect(a.linear).toBe(false);
+    expect(a.at).toEqual({ x: 32, y: 32 });
+    for (let k = 0; k < a.amplitude.length; k++) expect(a.amplitude[k]).toBeCloseTo(b.amplitude[k], 14);
+  });
+});
