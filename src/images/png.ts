@@ -47,7 +47,8 @@ export function decodePng(bytes: Uint8Array, h: PngHeader, maxPixels: number): R
   const colour = h.colorType === 2 || h.colorType === 6 || palette;
   // Palette entries are always 8-bit RGB, whatever the index bit depth.
   const maxval = palette ? 255 : 2 ** h.bitDepth - 1;
-  return { width: h.width, height: h.height, samples: png.data, spp: 4, colour, maxval };
+  // pngjs fills alpha (sample 3) from the file's alpha or tRNS, and with maxval where the file has none.
+  return { width: h.width, height: h.height, samples: png.data, spp: 4, colour, maxval: maxval, alpha: 3 };
 }
 
 /** Grey PNG (colour type 0); values clamped to [0,1] and rounded to the nearest of 0..2^bitDepth-1. */

@@ -76,6 +76,8 @@ export const CODES = {
   'unused-function': 'a function or diffusivity never called (warning)',
   'unused-let': 'a let field never read (warning)',
   'unused-set': 'a neighbour set never used (warning)',
+  'image-channel': 'a channel after `image.` other than red, green, blue, alpha or luma',
+  'image-input-name': 'an input name in `image "NAME"` that is not a letter followed by letters, digits, `_` or `-`',
 } as const;
 
 export type CheckerCode = keyof typeof CODES;
