@@ -105,7 +105,7 @@ describe('the engine with a picture per field', () => {
   it('colour-edge-preserving.fluxel on a grey picture equals grey Perona–Malik (the luma of equal channels is the grey value)', () => {
     const s = schemeOf(readFileSync(join(ROOT, 'examples/colour-edge-preserving.fluxel'), 'utf8'));
     // The same diffusivity and update on one grey field, written out here (Perona, Malik 1990, eq. 10 with g = 1/(1+(s/K)^2)).
-    const grey = schemeOf('grid 2d\nspacing 1\nboundary reflect\nparam K = 0.06\nstep dt = 0.2\nsteps 40\nfield u = image\n'
+    const grey = schemeOf('grid 2d\nspacing 1\nboundary reflect\nparam K = 0.02\nstep dt = 0.2\nsteps 40\nfield u = image\n'
       + 'diffusivity c(s) = 1 / (1 + (s / K)^2)\nu\' = u + dt * sum n in N4: c(u[n] - u) * (u[n] - u)');
     const scene = makeScene('cells', { width: 40, height: 30, noise: 0.05, seed: 2 });
     const colour = createRun(s, { image: scene.noisy, dtype: 'float64', backend: jsBackend });
