@@ -430,7 +430,7 @@ export class PreviewSession {
     const size = this.env.settings().sceneSize;
     const got = input.kind === 'scene'
       ? this.env.analysis.scene(input.scene, input.noise, input.seed, size).then((s) => ({ image: s.noisy as GreyPicture, reference: s.clean as GreyPicture | null }))
-      : this.env.readImage(input.uri).then((image) => ({ image, reference: null }));
+      : this.env.readImage(input.uri, input.range).then((image) => ({ image, reference: null }));
     got.then(
       (p) => {
         if (this.fetching === key) this.fetching = null;
