@@ -10,7 +10,7 @@ import { LineChart } from './charts';
 import { divergingCss, divergingTable, labToRgb, luminance, NEGATIVE_END, POSITIVE_END } from './colour';
 import { restoreState, type UiState } from './state';
 import {
-  changeScale, findingLine, findingText, fitText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint,
+  changeScale, findingLine, findingText, fitText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint, paintRgb,
   panBy, seriesOf, seriesSummary, SLIDER_STEPS, sliderFromValue, spaceTimeRepeat, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt, type ViewMode, type ViewTransform,
 } from './viewModel';
 
@@ -92,6 +92,16 @@ for (const [mode, label, key] of [['now', 'now', 'n'], ['start', 'start', 's'], 
   viewBar.append(b);
 }
 viewBar.append(button('fit', 'fit the picture (key 0)', () => { fitView(); draw(); }));
+// Colour schemes (image.red, .green, .blue): the three fields as one colour picture, instead of the shown field in grey.
+let colourView = true;
+const colourBtn = button('colour', 'show the red, green and blue fields as one colour picture', () => {
+  colourView = !colourView;
+  colourBtn.setAttribute('aria-pressed', String(colourView));
+  draw();
+}, 'toggle');
+colourBtn.setAttribute('aria-pressed', 'true');
+colourBtn.hidden = true;
+viewBar.append(colourBtn);
 const legendSwatch = h('span', { class: 'swatch' });
 const legendText = h('span');
 const legendEl = h('div', { class: 'legend', 'aria-hidden': 'true' }, legendSwatch, legendText);
@@ -274,7 +284,10 @@ function draw(): void {
     octx.putImageData(img, 0, 0);
   } else {
     const img = octx.createImageData(fw, fh);
-    paint(img.data, state.view, f.data, f0.data, win, diverging, state.view === 'change' ? changeScale(f.data, f0.data) : 0);
+    colourBtn.hidden = !f.colour;
+    const rgb = state.view === 'start' ? f0.colour : f.colour;
+    if (colourView && rgb && state.view !== 'change') paintRgb(img.data, rgb.red, rgb.green, rgb.blue);
+    else paint(img.data, state.view, f.data, f0.data, win, diverging, state.view === 'change' ? changeScale(f.data, f0.data) : 0);
     octx.putImageData(img, 0, 0);
   }
   ctx.imageSmoothingEnabled = false;

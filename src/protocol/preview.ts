@@ -119,6 +119,8 @@ export namespace ToPreview {
     readonly data: Float32Array;
     readonly stats: WireStats;
     readonly psnr: number | null;
+    /** Schemes binding image.red, .green and .blue: those three fields at this step, same size as `data`, for a colour view. */
+    readonly colour?: { readonly red: Float32Array; readonly green: Float32Array; readonly blue: Float32Array };
   }
   export interface Finding extends Base { readonly type: 'finding'; readonly runId: number; readonly finding: WireFinding }
   export interface RunEnded extends Base {
@@ -425,7 +427,18 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
       const data = floats(raw.data, raw.width * raw.height);
       const stats = statsOf(raw.stats);
       if (!data || !stats || !(raw.psnr === null || typeof raw.psnr === 'number')) return null;
-      return { type: 'frame', source, runId: raw.runId, field: raw.field, step: raw.step, t: raw.t, width: raw.width, height: raw.height, data, stats, psnr: raw.psnr };
+      let colour: ToPreview.Frame['colour'];
+      if (raw.colour !== undefined) {
+        if (!isObj(raw.colour)) return null;
+        const n = raw.width * raw.height;
+        const red = floats(raw.colour.red, n), green = floats(raw.colour.green, n), blue = floats(raw.colour.blue, n);
+        if (!red || !green || !blue) return null;
+        colour = { red, green, blue };
+      }
+      return {
+        type: 'frame', source, runId: raw.runId, field: raw.field, step: raw.step, t: raw.t, width: raw.width, height: raw.height, data, stats, psnr: raw.psnr,
+        ...(colour ? { colour } : {}),
+      };
     }
     case 'finding': {
       const f = finding(raw.finding);

@@ -13,7 +13,7 @@ import { parse, parseAndCheck } from '../../notation';
 import type { SourceRange } from '../../notation/ast';
 import type { CheckedScheme } from '../../notation/scheme';
 import type { FromPreview, InputChoice, KnobSpec, NamedInputChoice, NamedInputSpec, SampleRange, ToPreview, WireRange } from '../../protocol/preview';
-import { bindInputs, InputBindingError, makeMask, namedInputs, pictureFromGrey, type InputPicture } from '../../images/inputs';
+import { bindInputs, colourFields, InputBindingError, makeMask, namedInputs, pictureFromGrey, type InputPicture } from '../../images/inputs';
 import type { AnalysisService } from './analysisClient';
 import type { KnobSet } from './analysisProtocol';
 import { downsample, frameStride, knobEdits, rowOf, shrinkFactor, type OffsetEdit } from './frames';
@@ -623,10 +623,19 @@ export class PreviewSession {
     // At full size the stored Float32 snapshot is posted as it is (posting copies it); otherwise it is averaged down.
     const small = run.shrink === 1 && snap.data instanceof Float32Array ? { width: snap.width, height: snap.height, data: snap.data } : downsample(snap, run.shrink);
     const st = frame.stats.fields[name] ?? { min: NaN, max: NaN, mean: NaN };
+    // A colour scheme (image.red, .green, .blue) also sends the three fields, shrunk alike, for the colour view.
+    const cf = colourFields(run.scheme);
+    const shrunk = (n: string): Float32Array | null => {
+      const f = frame.fields[n];
+      if (!f) return null;
+      return run.shrink === 1 && f.data instanceof Float32Array ? f.data : downsample(f, run.shrink).data;
+    };
+    const rgb = cf ? [shrunk(cf.red), shrunk(cf.green), shrunk(cf.blue)] : null;
     this.env.post({
       type: 'frame', source: this.env.source, runId: run.runId, field: name, step: frame.step, t: frame.t,
       width: small.width, height: small.height, data: small.data, stats: { min: st.min, max: st.max, mean: st.mean },
       psnr: typeof frame.stats.psnr === 'number' && name === run.started.field ? frame.stats.psnr : null,
+      ...(rgb && rgb[0] && rgb[1] && rgb[2] ? { colour: { red: rgb[0], green: rgb[1], blue: rgb[2] } } : {}),
     });
   }
 

@@ -506,7 +506,7 @@ describe('named inputs and channels in the live run', () => {
     session.documentChanged(MASKED);
     await settle();
     expect(of('scheme')[0].namedInputs).toEqual([{ name: 'mask', choice: { kind: 'mask' }, label: 'generated mask (default)' }]);
-    const fi = runs[0].options.fieldImages as Record<string, { width: number; height: number; data: Float32Array }>;
+    const fi = runs[0].options.fieldImages as unknown as Record<string, { width: number; height: number; data: Float32Array }>;
     expect(Object.keys(fi).sort()).toEqual(['m', 'u']);
     expect([fi.m.width, fi.m.height]).toEqual([32, 32]);
     expect(Array.from(fi.m.data)).toEqual(Array.from(makeMask(32, 32).data));
@@ -541,13 +541,17 @@ describe('named inputs and channels in the live run', () => {
 
   it('binds the channels of a colour file to image.red, .green and .blue', async () => {
     const red = Float32Array.of(1, 0), green = Float32Array.of(0, 1), blue = Float32Array.of(0.5, 0.5), alpha = Float32Array.of(1, 1);
-    const { session, runs } = setup({
+    const { session, runs, of } = setup({
       input: { kind: 'file', uri: 'file:///w/c.png' },
       readImage: async () => ({ width: 2, height: 1, data: Float32Array.of(0.25, 0.75), channels: { red, green, blue, alpha } }),
     });
     session.documentChanged(SCHEME.replace('field u = image\n', 'field u = image.red\nfield g = image.green\nfield b = image.blue\n').replace("u' = u + dt", "u' = u + 0 * (g + b) + dt"));
     await settle();
-    const fi = runs[0].options.fieldImages as Record<string, { data: Float32Array }>;
+    const fi = runs[0].options.fieldImages as unknown as Record<string, { data: Float32Array }>;
     expect([fi.u.data, fi.g.data, fi.b.data]).toEqual([red, green, blue]);
+    // Frames of a colour scheme carry the three fields for the colour view.
+    runs[0].cb.onFrame?.(stats(0), { u: snapshot(2, 1, () => 1), g: snapshot(2, 1, () => 0), b: snapshot(2, 1, () => 0.5) });
+    const frame = of('frame')[0];
+    expect(frame.colour).toEqual({ red: Float32Array.of(1, 1), green: Float32Array.of(0, 0), blue: Float32Array.of(0.5, 0.5) });
   });
 });
