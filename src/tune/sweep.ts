@@ -77,6 +77,7 @@ export function sweepSummary(problem: Problem, opts: SweepOptions, r: SweepResul
     scene: problem.scene,
     noise: problem.noise,
     seed: problem.seed,
+    ...(problem.inputs ? { inputs: problem.inputs } : {}),
     size: { width: problem.image.width, height: problem.image.height },
     steps: opts.steps,
     metric: opts.metric,
