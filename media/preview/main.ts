@@ -5,12 +5,12 @@
 
 import 'uplot/dist/uPlot.min.css';
 import './preview.css';
-import { validateToPreview, type FromPreview, type KnobSpec, type ToPreview, type WireFinding, type WireRange, type InputChoice, type SceneName, SCENE_NAMES } from '../../src/protocol/preview';
+import { validateToPreview, type FromPreview, type KnobSpec, type ToPreview, type WireFinding, type WireRange, type InputChoice, type NamedInputSpec, type SceneName, SCENE_NAMES } from '../../src/protocol/preview';
 import { LineChart } from './charts';
 import { divergingCss, divergingTable, labToRgb, luminance, NEGATIVE_END, POSITIVE_END } from './colour';
 import { restoreState, type UiState } from './state';
 import {
-  changeScale, findingLine, findingText, fitText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint,
+  changeScale, findingLine, findingText, fitText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint, paintRgb,
   panBy, seriesOf, seriesSummary, SLIDER_STEPS, sliderFromValue, spaceTimeRepeat, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt, type ViewMode, type ViewTransform,
 } from './viewModel';
 
@@ -56,22 +56,28 @@ function button(label: string, aria: string, onClick: () => void, cls = ''): HTM
 
 const verdictEl = h('span', { class: 'verdict', role: 'status', 'aria-live': 'polite', text: 'checking…' });
 const sceneSel = h('select', { id: 'input-scene', 'aria-label': 'input picture' });
-const SCENE_TEXT: Record<SceneName, string> = { survey: 'survey tile', cells: 'cell slide', card: 'test card' };
+const SCENE_TEXT: Record<SceneName, string> = { survey: 'survey tile', cells: 'cell slide', card: 'test card', palette: 'colour chart' };
 for (const s of SCENE_NAMES) sceneSel.append(h('option', { value: s, text: SCENE_TEXT[s] }));
 const fileOption = h('option', { value: 'file', text: 'image file' });
 sceneSel.append(fileOption);
 const noiseIn = h('input', { id: 'input-noise', type: 'number', min: '0', max: '1', step: '0.01', 'aria-label': 'noise level (Gaussian sigma)' });
 const seedIn = h('input', { id: 'input-seed', type: 'number', min: '0', step: '1', 'aria-label': 'noise seed' });
 const chooseBtn = button('choose image…', 'choose an image file to run on', () => post({ type: 'chooseImage' }));
+// The sample range of an integer image file (value = (sample − lo) / (hi − lo)), e.g. 0 and 4095 for 12-bit data in 16-bit files.
+const rangeLoIn = h('input', { id: 'input-range-lo', type: 'number', step: '1', placeholder: 'auto', 'aria-label': 'sample value that maps to 0 (empty: the format\'s own range)' });
+const rangeHiIn = h('input', { id: 'input-range-hi', type: 'number', step: '1', placeholder: 'auto', 'aria-label': 'sample value that maps to 1 (empty: the format\'s own range)' });
+const rangeEl = h('span', { class: 'range', hidden: '' }, h('label', { for: 'input-range-lo', text: 'range' }), rangeLoIn, h('span', { text: ':' }), rangeHiIn);
 const header = h('header', { class: 'bar' },
   h('label', { for: 'input-scene', text: 'input' }), sceneSel,
   h('label', { for: 'input-noise', text: 'noise' }), noiseIn,
   h('label', { for: 'input-seed', text: 'seed' }), seedIn,
-  chooseBtn,
+  chooseBtn, rangeEl,
   h('span', { class: 'spacer' }),
   verdictEl,
 );
 
+// The named inputs' choosers (`image "mask"`): shown only when the scheme reads named inputs.
+const namedBar = h('div', { class: 'bar named-inputs', role: 'group', 'aria-label': 'named inputs', hidden: '' });
 const problemsEl = h('div', { class: 'problems', role: 'alert', hidden: '' });
 const noticeEl = h('div', { class: 'notice', role: 'status', hidden: '' });
 
@@ -86,6 +92,16 @@ for (const [mode, label, key] of [['now', 'now', 'n'], ['start', 'start', 's'], 
   viewBar.append(b);
 }
 viewBar.append(button('fit', 'fit the picture (key 0)', () => { fitView(); draw(); }));
+// Colour schemes (image.red, .green, .blue): the three fields as one colour picture, instead of the shown field in grey.
+let colourView = true;
+const colourBtn = button('colour', 'show the red, green and blue fields as one colour picture', () => {
+  colourView = !colourView;
+  colourBtn.setAttribute('aria-pressed', String(colourView));
+  draw();
+}, 'toggle');
+colourBtn.setAttribute('aria-pressed', 'true');
+colourBtn.hidden = true;
+viewBar.append(colourBtn);
 const legendSwatch = h('span', { class: 'swatch' });
 const legendText = h('span');
 const legendEl = h('div', { class: 'legend', 'aria-hidden': 'true' }, legendSwatch, legendText);
@@ -140,7 +156,7 @@ const charts = h('section', { class: 'charts', 'aria-label': 'charts' },
 const footer = h('footer', { class: 'caution', text: 'Filtered images can lose or gain small structures. Not for diagnostic use.' });
 
 const main = h('main', { class: 'grid' }, left, right);
-document.body.append(header, problemsEl, noticeEl, main, findingsSection, charts, footer);
+document.body.append(header, namedBar, problemsEl, noticeEl, main, findingsSection, charts, footer);
 document.title = `Fluxel · ${FILE_NAME}`;
 
 // ------------------------------------------------------------------------------------------------ run state
@@ -268,7 +284,10 @@ function draw(): void {
     octx.putImageData(img, 0, 0);
   } else {
     const img = octx.createImageData(fw, fh);
-    paint(img.data, state.view, f.data, f0.data, win, diverging, state.view === 'change' ? changeScale(f.data, f0.data) : 0);
+    colourBtn.hidden = !f.colour;
+    const rgb = state.view === 'start' ? f0.colour : f.colour;
+    if (colourView && rgb && state.view !== 'change') paintRgb(img.data, rgb.red, rgb.green, rgb.blue);
+    else paint(img.data, state.view, f.data, f0.data, win, diverging, state.view === 'change' ? changeScale(f.data, f0.data) : 0);
     octx.putImageData(img, 0, 0);
   }
   ctx.imageSmoothingEnabled = false;
@@ -481,7 +500,13 @@ function resetKnobs(): void {
 
 // ------------------------------------------------------------------------------------------------ input
 
+let currentInput: InputChoice | null = null;
+
 function renderInput(input: InputChoice, label: string): void {
+  currentInput = input;
+  rangeEl.hidden = input.kind !== 'file';
+  rangeLoIn.value = input.kind === 'file' && input.range ? String(input.range.lo) : '';
+  rangeHiIn.value = input.kind === 'file' && input.range ? String(input.range.hi) : '';
   if (input.kind === 'scene') {
     sceneSel.value = input.scene;
     noiseIn.value = String(input.noise);
@@ -504,6 +529,44 @@ function sendInput(): void {
   const seed = Math.max(0, Math.min(4294967295, Math.floor(Number(seedIn.value) || 0)));
   post({ type: 'setInput', input: { kind: 'scene', scene: sceneSel.value as SceneName, noise, seed } });
 }
+/** Both ends given with lo < hi: the file is read with that range; both empty: the format's own range. */
+function sendRange(): void {
+  const input = currentInput;
+  if (!input || input.kind !== 'file') return;
+  const lo = rangeLoIn.value.trim(), hi = rangeHiIn.value.trim();
+  if (lo === '' && hi === '') {
+    post({ type: 'setInput', input: { kind: 'file', uri: input.uri } });
+    return;
+  }
+  const l = Number(lo), u = Number(hi);
+  const ok = lo !== '' && hi !== '' && Number.isFinite(l) && Number.isFinite(u) && u > l;
+  rangeEl.classList.toggle('invalid', !ok);
+  rangeEl.title = ok ? '' : 'give both ends, with the first below the second';
+  if (ok) post({ type: 'setInput', input: { kind: 'file', uri: input.uri, range: { lo: l, hi: u } } });
+}
+rangeLoIn.addEventListener('change', sendRange);
+rangeHiIn.addEventListener('change', sendRange);
+
+// ------------------------------------------------------------------------------------------------ named inputs
+
+/** One chooser per `image "NAME"` of the scheme: the generated mask (the default) or an image file. */
+function renderNamedInputs(specs: readonly NamedInputSpec[]): void {
+  namedBar.hidden = specs.length === 0;
+  namedBar.replaceChildren(...specs.map((spec) => {
+    const id = `named-${spec.name}`;
+    const sel = h('select', { id, 'aria-label': `picture for the input "${spec.name}"` });
+    sel.append(h('option', { value: 'mask', text: 'generated mask' }));
+    sel.append(h('option', { value: 'file', text: spec.choice.kind === 'file' ? `image: ${spec.label}` : 'image file…' }));
+    sel.value = spec.choice.kind;
+    sel.addEventListener('change', () => {
+      if (sel.value === 'file') post({ type: 'chooseNamedImage', name: spec.name });
+      else post({ type: 'setNamedInput', name: spec.name, input: { kind: 'mask' } });
+    });
+    const again = button('choose…', `choose an image file for the input "${spec.name}"`, () => post({ type: 'chooseNamedImage', name: spec.name }));
+    return h('span', { class: 'named-input' }, h('label', { for: id, text: `"${spec.name}"` }), sel, again);
+  }));
+}
+
 sceneSel.addEventListener('change', sendInput);
 noiseIn.addEventListener('change', sendInput);
 seedIn.addEventListener('change', sendInput);
@@ -663,6 +726,7 @@ function handleMessage(msg: ToPreview.Type): void {
       // The host owns the knob values (and remembers them per file), so a reloaded page simply shows them.
       renderKnobs();
       renderInput(msg.input, msg.inputLabel);
+      renderNamedInputs(msg.namedInputs ?? []);
       fitBtn.disabled = !msg.fit?.ready;
       fitBtn.title = msg.fit?.note ?? 'fitting is not available';
       fitBtn.setAttribute('aria-label', `fit knobs: ${fitBtn.title}`);

@@ -91,6 +91,21 @@ export function changeScale(now: Float32Array, start: Float32Array): number {
   return m;
 }
 
+/** Fills RGBA bytes from three channels in [0, 1] (clamped, rounded; non-finite values in the `bad` colour). */
+export function paintRgb(out: Uint8ClampedArray, red: Float32Array, green: Float32Array, blue: Float32Array, bad: readonly [number, number, number] = [255, 0, 255]): void {
+  const byte = (v: number): number => Math.round(255 * (v < 0 ? 0 : v > 1 ? 1 : v));
+  for (let i = 0; i < red.length; i++) {
+    const o = i * 4;
+    const r = red[i], g = green[i], b = blue[i];
+    if (!Number.isFinite(r) || !Number.isFinite(g) || !Number.isFinite(b)) {
+      out[o] = bad[0]; out[o + 1] = bad[1]; out[o + 2] = bad[2];
+    } else {
+      out[o] = byte(r); out[o + 1] = byte(g); out[o + 2] = byte(b);
+    }
+    out[o + 3] = 255;
+  }
+}
+
 /**
  * Fills RGBA bytes for one picture: grey for 'now' and 'start' (window lo..hi), the diverging table for 'change'
  * (scale ±scale, zero in the middle). Non-finite values are drawn in the `bad` colour so a blow-up is seen.

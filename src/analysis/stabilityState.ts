@@ -100,7 +100,15 @@ export function initialState(scheme: CheckedScheme, image?: GreyImage): FieldSta
   const ev = new SchemeEvaluator(scheme);
   const noRead: FieldReader = () => NaN;
   const fields = scheme.fields.map((f) => {
-    if (f.init.kind === 'image') return Float64Array.from(picture);
+    if (f.init.kind === 'image') {
+      // A named input (a mask, a guide) is not known to the analysis: a checkerboard of 0 and 1 puts both ends of
+      // the [0, 1] data range next to each other, so the frozen coefficients take their extremes somewhere.
+      if (f.init.input !== null) return Float64Array.from({ length: width * height }, (_, i) => ((i % width) + Math.floor(i / width)) % 2);
+      // Every channel of the main picture is taken as the grey picture (a colour file's channels are not at hand here);
+      // alpha is 1, as for files without alpha.
+      if (f.init.channel === 'alpha') return new Float64Array(width * height).fill(1);
+      return Float64Array.from(picture);
+    }
     const a = new Float64Array(width * height);
     for (let y = 0; y < height; y++) for (let x = 0; x < width; x++) a[y * width + x] = ev.evaluatePlain(f.init.expr, x, y, noRead);
     return a;

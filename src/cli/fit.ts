@@ -52,6 +52,7 @@ export function fitMain(argv: string[]): Promise<number> {
       if (o.json) {
         process.stdout.write(toJson({
           scheme: problem.file, sourceHash: problem.sourceHash, scene: problem.scene, noise: problem.noise, seed: problem.seed,
+          ...(problem.inputs ? { inputs: problem.inputs } : {}),
           size: { width: problem.image.width, height: problem.image.height }, steps, metric, method: r.method,
           free: free.map(({ name, lo, hi }) => ({ name, lo, hi })),
           values: r.values, step: r.step, [metric]: r.best, noisy: r.noisy,

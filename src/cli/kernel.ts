@@ -9,16 +9,15 @@ import { promises as fs } from 'node:fs';
 import { impulseResponse, kernelAt, type ImpulseResponse, type KernelWeights } from '../analysis/kernel';
 import { influenceMap, type InfluenceMap } from '../analysis/influence';
 import { createRun, EngineError, recordTrajectory, type RunImage } from '../engine';
-import { readImageFile } from '../images/files';
-import { makeScene } from '../images/scenes';
-import { ImageError } from '../images/types';
 import { parseAndCheck } from '../notation';
 import type { CheckedScheme } from '../notation/scheme';
-import { guard, parseCommandLine, UsageError, numberArg, rangeArg, sizeArg, wholeArg } from './args';
+import { guard, parseCommandLine, UsageError, sizeArg, wholeArg } from './args';
+import { inputFailure, loadInputs, type LoadedInputs } from './inputs';
 import { formatDiagnostic } from './check';
 
 const USAGE = [
   'usage: fluxel kernel FILE --at X,Y [--input PATH [--range LO:HI] | --scene NAME [--noise SIGMA] [--seed N]] [--size WxH]',
+  '                     [--input NAME=PATH|NAME=scene:SCENE [--range NAME=LO:HI] ...]',
   '                     [--step N] [--field NAME] [--linearised] [--influence N] [--json]',
   '  The weights of FIELD\' at pixel (X, Y) after N steps (default 0), with diffusivities frozen at that state',
   '  (--linearised: differentiated too). Without --input or --scene, image fields use the survey scene.',
@@ -30,8 +29,8 @@ const USAGE = [
 
 const OPTIONS = {
   at: { type: 'string' },
-  input: { type: 'string' },
-  range: { type: 'string' },
+  input: { type: 'string', multiple: true },
+  range: { type: 'string', multiple: true },
   scene: { type: 'string' },
   noise: { type: 'string' },
   seed: { type: 'string' },
@@ -45,7 +44,6 @@ const OPTIONS = {
   help: { type: 'boolean', short: 'h' },
 } as const;
 
-const number = (text: string, what: string): number => numberArg(text, what, USAGE);
 const whole = (text: string, what: string, min: number): number => wholeArg(text, what, min, USAGE);
 
 /** Six significant digits, trailing zeros dropped; −0 printed as 0. */
@@ -224,16 +222,12 @@ export function kernelMain(argv: string[]): Promise<number> {
     if (positionals.length !== 1) throw new UsageError(`expected one FILE.\n${USAGE}`);
     const file = positionals[0];
     if (o.at === undefined) throw new UsageError(`--at X,Y is required.\n${USAGE}`);
-    if (o.input && o.scene) throw new UsageError(`give --input or --scene, not both.\n${USAGE}`);
-    if ((o.noise !== undefined || o.seed !== undefined) && !o.scene) throw new UsageError(`--noise and --seed go with --scene.\n${USAGE}`);
-    if (o.range !== undefined && !o.input) throw new UsageError(`--range goes with --input.\n${USAGE}`);
     const atMatch = /^\s*(-?\d+)\s*(?:,\s*(-?\d+)\s*)?$/.exec(o.at);
     if (!atMatch) throw new UsageError(`--at takes X,Y (whole numbers, e.g. 12,40), got '${o.at}'.\n${USAGE}`);
     const step = o.step === undefined ? 0 : whole(o.step, '--step', 0);
     const influenceSteps = o.influence === undefined ? null : whole(o.influence, '--influence', 1);
     const linearised = (o.linearised ?? false) || (o.linearized ?? false);
     const size = sizeArg(o.size, USAGE);
-    const range = rangeArg(o.range, USAGE);
 
     let text: string;
     try {
@@ -262,41 +256,22 @@ export function kernelMain(argv: string[]): Promise<number> {
     if (scheme.dims === 1 && y !== 0) throw new UsageError(`--at: a 1d scheme has one row; give --at X (or X,0), got '${o.at}'.`);
     if (scheme.dims === 2 && atMatch[2] === undefined) throw new UsageError(`--at: a 2d scheme needs both coordinates, --at X,Y, got '${o.at}'.`);
 
-    // The picture, as `fluxel run` takes it: a file, a named scene (its noisy version), or the survey scene.
-    let image: RunImage | null = null;
-    let inputName: string | null = null;
-    const needsImage = scheme.fields.some((f) => f.init.kind === 'image');
+    // The pictures, as `fluxel run` takes them: a file, a named scene (its noisy version), or the survey scene; named inputs.
+    let inputs: LoadedInputs;
     try {
-      if (o.input) {
-        image = (await readImageFile(o.input, range ? { range } : {})).channels[0];
-        inputName = o.input;
-      } else if (o.scene || needsImage) {
-        const scene = makeScene(o.scene ?? 'survey', {
-          ...(size ?? {}),
-          ...(o.noise !== undefined ? { noise: number(o.noise, '--noise') } : {}),
-          ...(o.seed !== undefined ? { seed: whole(o.seed, '--seed', 0) } : {}),
-        });
-        image = scene.noisy;
-        inputName = `scene:${scene.name}`;
-      }
+      inputs = await loadInputs(scheme, { input: o.input, range: o.range, scene: o.scene, noise: o.noise, seed: o.seed, size }, USAGE);
     } catch (err) {
-      if (err instanceof ImageError) {
-        process.stderr.write(`fluxel kernel: ${err.message}\n`);
-        return err.code === 'bad-option' && o.scene ? 2 : 1;
-      }
-      const code = (err as NodeJS.ErrnoException).code;
-      if (code) {
-        process.stderr.write(`fluxel kernel: cannot read ${o.input}: ${code}\n`);
-        return 1;
-      }
-      throw err;
+      if (err instanceof UsageError) throw err;
+      return inputFailure('kernel', file, err);
     }
+    const image: RunImage | null = inputs.image;
+    const inputName = inputs.label;
     // A 1d scheme runs on the image's middle row: the engine picks it (middleRow), the same row as the analysis.
 
     let run;
     try {
       run = createRun(scheme, {
-        image, steps: step, dtype: 'float64',
+        image, fieldImages: inputs.fieldImages, steps: step, dtype: 'float64',
         width: image ? undefined : size?.width, height: image ? undefined : scheme.dims === 1 ? 1 : size?.height,
       });
     } catch (err) {
@@ -324,7 +299,7 @@ export function kernelMain(argv: string[]): Promise<number> {
     let influence: InfluenceMap | null = null;
     if (influenceSteps !== null) {
       try {
-        const traj = recordTrajectory(scheme, influenceSteps, { image, width: image ? undefined : size?.width, height: image ? undefined : scheme.dims === 1 ? 1 : size?.height }, undefined, step);
+        const traj = recordTrajectory(scheme, influenceSteps, { image, fieldImages: inputs.fieldImages, width: image ? undefined : size?.width, height: image ? undefined : scheme.dims === 1 ? 1 : size?.height }, undefined, step);
         if (traj.states.length < influenceSteps) {
           process.stderr.write(`fluxel kernel: ${file}: the run stopped after ${step + traj.states.length} steps, before step ${step + influenceSteps}.\n`);
           return 1;

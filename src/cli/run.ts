@@ -7,16 +7,18 @@
 
 import { createHash } from 'node:crypto';
 import { promises as fs } from 'node:fs';
+import * as os from 'node:os';
 import * as path from 'node:path';
 import { formatFromExtension } from '../images/codec';
-import { readImageFile, writeFileAtomically, writeImageFile } from '../images/files';
-import { makeScene } from '../images/scenes';
+import { writeColourImageFile, writeFileAtomically, writeImageFile } from '../images/files';
+import { colourFields } from '../images/inputs';
 import { ImageError, type GreyImage } from '../images/types';
 import { parseAndCheck } from '../notation';
 import type { SourceRange } from '../notation/ast';
 import { createRun, EngineError, type RunImage, type RunWarning } from '../engine';
 import { BACKEND_CHOICES, backendByName, type BackendChoice } from '../engine/wasm/select';
-import { guard, parseCommandLine, UsageError, numberArg, rangeArg, sizeArg, wholeArg } from './args';
+import { guard, parseCommandLine, UsageError, numberArg, sizeArg, wholeArg } from './args';
+import { inputFailure, loadInputs, type InputRecord, type LoadedInputs } from './inputs';
 import { formatDiagnostic } from './check';
 import { bestStepTracker, pictureField } from '../tune/evaluate';
 import { psnr as psnrOf, ssim as ssimOf, totalVariation } from '../analysis/metrics';
@@ -37,17 +39,22 @@ function outputFieldIndex(scheme: CheckedScheme, name?: string): number {
 
 const USAGE = [
   'usage: fluxel run FILE [--input PATH [--range LO:HI] | --scene NAME [--noise SIGMA] [--seed N]] [--size WxH]',
+  '                  [--input NAME=PATH|NAME=scene:SCENE [--range NAME=LO:HI] ...]',
   '                  [--set NAME=VALUE ...] [--steps N] [--float64] [--field NAME] [--extremum-check] [--backend js|wasm|auto]',
   '                  --output PATH [--frames DIR --every K] [--stats PATH [--metric psnr|ssim]]',
+  '       fluxel run --replay STATS.json [--output PATH]',
   '  --set also accepts dt=VALUE; without --input or --scene, image fields use the survey scene.',
+  '  --input NAME=PATH gives the picture of `image "NAME"` fields; scene:mask is the generated mask, scene:palette the colour chart.',
   '  With a scene, --stats gets `best`: the step (any step, not only recorded frames) maximising --metric (default psnr).',
   '  --baseline OTHER.fluxel: also run OTHER on the same input; writes NAME.baseline.EXT and NAME.diff.pfm beside',
   '  --output and the deltas (this − baseline) of PSNR, SSIM (with a scene), TV and the difference.',
+  '  A scheme with fields bound to image.red, .green and .blue writes a colour .png or .pfm unless --field picks one.',
+  '  --replay repeats the run a --stats file records and exits 1 unless its output hash matches.',
 ].join('\n');
 
 const OPTIONS = {
-  input: { type: 'string' },
-  range: { type: 'string' },
+  input: { type: 'string', multiple: true },
+  range: { type: 'string', multiple: true },
   scene: { type: 'string' },
   noise: { type: 'string' },
   seed: { type: 'string' },
@@ -64,6 +71,7 @@ const OPTIONS = {
   stats: { type: 'string' },
   metric: { type: 'string' },
   baseline: { type: 'string' },
+  replay: { type: 'string' },
   help: { type: 'boolean', short: 'h' },
 } as const;
 
@@ -75,8 +83,24 @@ const jsonRange = (r: SourceRange) => ({ start: { line: r.start.line, column: r.
 /** The stats file, like the image, replaces an existing file only once complete. */
 const writeAtomically = writeFileAtomically;
 
+/** What a replay checks: the scheme's source hash, the input files' hashes and the output hash a --stats file recorded. */
+interface Expected {
+  readonly statsPath: string;
+  readonly sourceHash: string;
+  readonly outputHash: string;
+  readonly inputs: readonly InputRecord[];
+}
+
 export function runMain(argv: string[]): Promise<number> {
   return guard('run', async () => {
+    const { values: o } = parseCommandLine(argv, OPTIONS, USAGE);
+    if (o.replay !== undefined && !o.help) return replay(argv, o.replay, o.output);
+    return runCommand(argv, null);
+  });
+}
+
+async function runCommand(argv: string[], expected: Expected | null): Promise<number> {
+  {
     const { values: o, positionals } = parseCommandLine(argv, OPTIONS, USAGE);
     if (o.help) {
       process.stdout.write(USAGE + '\n');
@@ -86,9 +110,6 @@ export function runMain(argv: string[]): Promise<number> {
     const file = positionals[0];
     if (!o.output) throw new UsageError(`--output PATH is required.\n${USAGE}`);
     if (formatFromExtension(o.output) === null) throw new UsageError(`cannot tell the output format of ${o.output}; use .png, .pgm, .pfm, .tif or .tiff.`);
-    if (o.input && o.scene) throw new UsageError(`give --input or --scene, not both.\n${USAGE}`);
-    if ((o.noise !== undefined || o.seed !== undefined) && !o.scene) throw new UsageError(`--noise and --seed go with --scene.\n${USAGE}`);
-    if (o.range !== undefined && !o.input) throw new UsageError(`--range goes with --input.\n${USAGE}`);
     if ((o.frames === undefined) !== (o.every === undefined)) throw new UsageError(`--frames DIR and --every K go together.\n${USAGE}`);
     const steps = o.steps === undefined ? undefined : whole(o.steps, '--steps', 0);
     const every = o.every === undefined ? 0 : whole(o.every, '--every', 1);
@@ -105,7 +126,6 @@ export function runMain(argv: string[]): Promise<number> {
       else params[name] = value;
     }
     const size = sizeArg(o.size, USAGE);
-    const range = rangeArg(o.range, USAGE);
 
     let text: string;
     try {
@@ -121,6 +141,11 @@ export function runMain(argv: string[]): Promise<number> {
       return 1;
     }
     const scheme = checked.scheme;
+    const sourceHash = createHash('sha256').update(text).digest('hex');
+    if (expected && sourceHash !== expected.sourceHash) {
+      process.stderr.write(`fluxel run: replay of ${expected.statsPath}: ${file} has changed since the run (source SHA-256 ${sourceHash}, recorded ${expected.sourceHash}).\n`);
+      return 1;
+    }
     for (const [name, value] of Object.entries(params)) {
       const p = scheme.params.find(q => q.name === name);
       if (!p) {
@@ -138,42 +163,32 @@ export function runMain(argv: string[]): Promise<number> {
       throw new UsageError(`--field ${o.field}: the scheme has no field '${o.field}'.`);
     }
 
-    // The picture: a file, a named scene (noisy input, clean reference for PSNR), or the default scene when needed.
-    let image: RunImage | null = null;
-    let reference: RunImage | null = null;
-    let inputName: string | null = null;
-    let seed: number | undefined;
-    const needsImage = scheme.fields.some(f => f.init.kind === 'image');
+    // The pictures: the main input (a file, a scene, or the survey scene when a field needs it) and named inputs.
+    let inputs: LoadedInputs;
     try {
-      if (o.input) {
-        const decoded = await readImageFile(o.input, range ? { range } : {});
-        image = decoded.channels[0];
-        inputName = o.input;
-      } else if (o.scene || needsImage) {
-        const name = o.scene ?? 'survey';
-        seed = o.seed === undefined ? undefined : whole(o.seed, '--seed', 0);
-        const scene = makeScene(name, {
-          ...(size ?? {}),
-          ...(o.noise !== undefined ? { noise: number(o.noise, '--noise') } : {}),
-          ...(seed !== undefined ? { seed } : {}),
-        });
-        image = scene.noisy;
-        reference = scene.clean;
-        seed = scene.options.seed;
-        inputName = `scene:${scene.name}`;
-      }
+      inputs = await loadInputs(scheme, { input: o.input, range: o.range, scene: o.scene, noise: o.noise, seed: o.seed, size }, USAGE);
     } catch (err) {
-      if (err instanceof ImageError) {
-        process.stderr.write(`fluxel run: ${err.message}\n`);
-        return err.code === 'bad-option' && o.scene ? 2 : 1;
-      }
-      throw err;
+      if (err instanceof UsageError) throw err;
+      return inputFailure('run', file, err);
     }
+    if (expected) {
+      for (const want of expected.inputs) {
+        const got = inputs.records.find(r => r.name === want.name);
+        if (want.sha256 !== undefined && got?.sha256 !== want.sha256) {
+          process.stderr.write(`fluxel run: replay of ${expected.statsPath}: the ${want.name === null ? 'main input' : `input "${want.name}"`} ${want.source} has changed since the run (SHA-256 ${got?.sha256 ?? 'none'}, recorded ${want.sha256}).\n`);
+          return 1;
+        }
+      }
+    }
+    const image = inputs.image;
+    const reference = inputs.reference;
+    const inputName = inputs.label;
+    const seed = inputs.seed;
 
     let run;
     try {
       run = createRun(scheme, {
-        image, reference, params, dt, steps, every,
+        image, fieldImages: inputs.fieldImages, reference, params, dt, steps, every,
         width: size?.width, height: size?.height,
         dtype: o.float64 ? 'float64' : 'float32',
         // `auto` and `wasm` both take the SIMD kernels where the scheme allows; stats.backend says what ran.
@@ -215,7 +230,7 @@ export function runMain(argv: string[]): Promise<number> {
       if (o.field !== undefined && !bs.fields.some(f => f.name === o.field)) throw new UsageError(`--field ${o.field}: the baseline has no field '${o.field}'.`);
       try {
         const brun = createRun(bs, {
-          image, steps, width: size?.width, height: size?.height,
+          image, fieldImages: inputs.fieldImages, steps, width: size?.width, height: size?.height,
           dtype: o.float64 ? 'float64' : 'float32', backend: backendByName(backendChoice), measures: false,
         });
         const br = brun.runSync();
@@ -237,6 +252,11 @@ export function runMain(argv: string[]): Promise<number> {
       }
     }
 
+    const colourOut = o.field === undefined ? colourFields(scheme) : null;
+    const outFormat = formatFromExtension(o.output);
+    if (colourOut && outFormat !== 'png' && outFormat !== 'pfm') {
+      throw new UsageError(`${file} binds image.red, .green and .blue, so its result is a colour picture: write it as .png or .pfm, or pick one channel with --field NAME.`);
+    }
     // The output field: --field, else the field holding the picture, else the first updated field.
     const imageField = scheme.fields.findIndex(f => f.init.kind === 'image');
     const outIndex = o.field !== undefined
@@ -285,6 +305,8 @@ export function runMain(argv: string[]): Promise<number> {
     if (backendChoice === 'wasm' && result.backend.startsWith('js')) process.stderr.write(`fluxel run: ${file}: ran on ${result.backend}\n`);
     await Promise.all(frameWrites);
 
+    // The output hash covers the whole final state: every field, in declaration order (see stateHash).
+    const outputHash = stateHash(scheme.fields.map((_, k) => run.fieldData(k)));
     if (o.stats) {
       const stats = {
         scheme: file,
@@ -300,17 +322,44 @@ export function runMain(argv: string[]): Promise<number> {
         ...(result.stopChange !== undefined ? { stopChange: result.stopChange } : {}),
         warnings: result.warnings.map(w => ({ ...w, range: jsonRange(w.range) })),
         ...(tracker?.best() ? { best: tracker.best() } : result.best ? { best: result.best } : {}),
-        sourceHash: createHash('sha256').update(text).digest('hex'),
+        sourceHash,
         ...(seed !== undefined ? { seed } : {}),
+        // Provenance (issue 12): every picture with its file's SHA-256, the backend asked for, and the output hash.
+        inputs: inputs.records,
+        backendChoice,
+        width: run.geometry.width,
+        height: run.geometry.height,
+        outputHash,
+        outputHashRule: STATE_HASH_RULE,
       };
       // JSON has no Infinity: PSNR of identical images is +∞ (numerics.md), written as the string "inf".
       await writeAtomically(o.stats, JSON.stringify(stats, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? (Number.isNaN(v) ? 'nan' : v > 0 ? 'inf' : '-inf') : v), 2) + '\n');
+    }
+    if (o.frames) {
+      // A sidecar beside the frames records how they were made (the same provenance as --stats).
+      await writeAtomically(path.join(o.frames, `${outName}-frames.json`), JSON.stringify({
+        scheme: file, sourceHash, params: result.params, dt: result.dt, steps: result.steps, every,
+        backend: result.backend, backendChoice, dtype: result.dtype, inputs: inputs.records, ...(seed !== undefined ? { seed } : {}),
+        field: outName, outputHash, outputHashRule: STATE_HASH_RULE,
+      }, null, 2) + '\n');
     }
     if (result.status === 'blow-up') {
       process.stderr.write(`fluxel run: ${file}: the run blew up; no output written.\n`);
       return 1;
     }
-    await writeImageFile(o.output, grey(run.fieldData(outIndex)));
+    const colour = colourOut;
+    try {
+      if (colour) {
+        const byName = (name: string) => grey(run.fieldData(scheme.fields.findIndex(f => f.name === name)));
+        await writeColourImageFile(o.output, byName(colour.red), byName(colour.green), byName(colour.blue));
+      } else await writeImageFile(o.output, grey(run.fieldData(outIndex)));
+    } catch (err) {
+      if (err instanceof ImageError) {
+        process.stderr.write(`fluxel run: ${err.message}\n`);
+        return 2;
+      }
+      throw err;
+    }
     if (ab) {
       const paths = abPaths(o.output);
       await writeImageFile(paths.baseline, grey(ab.data));
@@ -350,6 +399,93 @@ export function runMain(argv: string[]): Promise<number> {
         await writeAtomically(o.stats, JSON.stringify(stats, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? (Number.isNaN(v) ? 'nan' : v > 0 ? 'inf' : '-inf') : v), 2) + '\n');
       }
     }
+    if (expected) {
+      if (outputHash !== expected.outputHash) {
+        process.stderr.write(`fluxel run: replay of ${expected.statsPath} differs: output hash ${outputHash}, recorded ${expected.outputHash}.\n`);
+        return 1;
+      }
+      process.stdout.write(`replay of ${expected.statsPath} matches: output hash ${outputHash}\n`);
+    }
     return 0;
-  });
+  }
+}
+
+/** How the output hash is computed, recorded beside it. */
+export const STATE_HASH_RULE = 'sha256 of every field in declaration order, each row-major (y down) over the image, as Float32 little-endian';
+
+/** SHA-256 (hex) of the fields' values as Float32 little-endian, fields in declaration order, each row-major. */
+export function stateHash(fields: readonly ArrayLike<number>[]): string {
+  const h = createHash('sha256');
+  for (const f of fields) {
+    const bytes = new Uint8Array(f.length * 4);
+    const view = new DataView(bytes.buffer);
+    for (let i = 0; i < f.length; i++) view.setFloat32(4 * i, f[i], true);
+    h.update(bytes);
+  }
+  return h.digest('hex');
+}
+
+/** `--replay STATS.json`: the command line the stats record, run again, checked against the recorded hashes. */
+async function replay(argv: string[], statsPath: string, output: string | undefined): Promise<number> {
+  const extra = argv.filter(a => a !== '--replay' && a !== statsPath && !a.startsWith('--replay='));
+  if (extra.some((a, i) => a !== '--output' && a !== '-o' && extra[i - 1] !== '--output' && extra[i - 1] !== '-o' && !a.startsWith('--output='))) {
+    throw new UsageError(`--replay takes only --output besides the stats file.\n${USAGE}`);
+  }
+  let stats: Record<string, unknown>;
+  try {
+    stats = JSON.parse(await fs.readFile(statsPath, 'utf8')) as Record<string, unknown>;
+  } catch (err) {
+    process.stderr.write(`fluxel run: cannot read ${statsPath} as JSON: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}\n`);
+    return 1;
+  }
+  const str = (k: string): string => {
+    if (typeof stats[k] !== 'string') throw new UsageError(`${statsPath} has no \`${k}\`: it is not a --stats file of this version (it needs scheme, sourceHash, outputHash, inputs, params, dt, steps, dtype).`);
+    return stats[k] as string;
+  };
+  const file = str('scheme');
+  const sourceHash = str('sourceHash');
+  const outputHash = str('outputHash');
+  const dtype = str('dtype');
+  const inputs = stats.inputs;
+  const params = stats.params;
+  if (!Array.isArray(inputs) || typeof params !== 'object' || params === null || typeof stats.dt !== 'number' || typeof stats.steps !== 'number') {
+    throw new UsageError(`${statsPath} lacks inputs, params, dt or steps: it is not a --stats file of this version.`);
+  }
+  const args: string[] = [file];
+  for (const r of inputs as InputRecord[]) {
+    const range = r.range ? `${r.range.lo}:${r.range.hi}` : null;
+    if (r.name === null) {
+      if (r.source.startsWith('scene:')) {
+        args.push('--scene', r.source.slice('scene:'.length), '--size', `${r.width}x${r.height}`);
+        if (r.noise !== undefined) args.push('--noise', String(r.noise));
+        if (r.seed !== undefined) args.push('--seed', String(r.seed));
+      } else {
+        args.push('--input', r.source);
+        if (range) args.push('--range', range);
+      }
+    } else {
+      args.push('--input', `${r.name}=${r.source}`);
+      if (range) args.push('--range', `${r.name}=${range}`);
+    }
+  }
+  if (!(inputs as InputRecord[]).some(r => r.name === null) && typeof stats.width === 'number' && typeof stats.height === 'number') {
+    args.push('--size', `${stats.width}x${stats.height}`);
+  }
+  for (const [k, v] of Object.entries(params as Record<string, number>)) args.push('--set', `${k}=${v}`);
+  args.push('--set', `dt=${stats.dt as number}`, '--steps', String(stats.steps));
+  if (dtype === 'float64') args.push('--float64');
+  const choice = typeof stats.backendChoice === 'string' ? stats.backendChoice : str('backend').startsWith('js') ? 'js' : 'wasm';
+  args.push('--backend', choice);
+  let out = output;
+  let tmp: string | null = null;
+  if (out === undefined) {
+    tmp = await fs.mkdtemp(path.join(os.tmpdir(), 'fluxel-replay-'));
+    out = path.join(tmp, 'replay.pfm');
+  }
+  args.push('--output', out);
+  try {
+    return await runCommand(args, { statsPath, sourceHash, outputHash, inputs: inputs as InputRecord[] });
+  } finally {
+    if (tmp) await fs.rm(tmp, { recursive: true, force: true });
+  }
 }

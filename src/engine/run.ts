@@ -46,6 +46,12 @@ export interface MonitorOptions {
 export interface RunOptions {
   /** The picture for `field u = image` fields; its size is the grid size. */
   readonly image?: RunImage | null;
+  /**
+   * The picture of each `image` field by field name (named inputs and channels, as bound by images/inputs.ts
+   * `bindInputs`); all of one size. A field missing here falls back to `image` when it reads the main input
+   * (every channel of a grey picture is its grey value; alpha is then 1); a named input has no fallback.
+   */
+  readonly fieldImages?: Readonly<Record<string, RunImage>> | null;
   /** Grid size when there is no image (default 64×64 in 2d, 256×1 in 1d). */
   readonly width?: number;
   readonly height?: number;
@@ -192,10 +198,22 @@ export class Run {
     this.steps = opts.steps ?? (this.stopChange !== null && scheme.untilChange == null ? DEFAULT_STEP_CAP : defaultSteps);
     if (!Number.isInteger(this.steps) || this.steps < 0) throw new EngineError('steps must be a whole number ≥ 0');
 
-    const given = opts.image ?? null;
-    const needsImage = scheme.fields.some(f => f.init.kind === 'image');
-    if (needsImage && !given) throw new EngineError('this scheme has a field initialised from an image, but no image was given');
-    if (given && given.data.length !== given.width * given.height) throw new EngineError('the image data does not match its size');
+    const perField = opts.fieldImages ?? {};
+    // The picture of each image field: its own (named input or channel), else the main image (see RunOptions).
+    const fieldPictures: (RunImage | null)[] = scheme.fields.map(f => {
+      if (f.init.kind !== 'image') return null;
+      const own = Object.prototype.hasOwnProperty.call(perField, f.name) ? perField[f.name] : null;
+      if (own) return own;
+      if (f.init.input !== null) throw new EngineError(`field '${f.name}' reads the input "${f.init.input}", but no picture was given for it`);
+      if (!opts.image) throw new EngineError('this scheme has a field initialised from an image, but no image was given');
+      if (f.init.channel === 'alpha') return { width: opts.image.width, height: opts.image.height, data: new Float32Array(opts.image.data.length).fill(1) };
+      return opts.image;
+    });
+    const given = opts.image ?? fieldPictures.find(p => p !== null) ?? null;
+    for (const p of [given, ...fieldPictures]) {
+      if (p && p.data.length !== p.width * p.height) throw new EngineError('the image data does not match its size');
+      if (p && given && (p.width !== given.width || p.height !== given.height)) throw new EngineError(`the field pictures must all have one size (${given.width}×${given.height} and ${p.width}×${p.height} given)`);
+    }
     // In 1d the field is a single row: an image contributes its middle row, as the analysis assumes (contracts, issue 2).
     const image = given && scheme.dims === 1 ? middleRow(given) : given;
     const width = image ? image.width : opts.width ?? (scheme.dims === 2 ? 64 : 256);
@@ -232,7 +250,10 @@ export class Run {
 
     // Initial values, in declaration order (an initialiser may read earlier fields at its own pixel).
     scheme.fields.forEach((f, k) => {
-      if (f.init.kind === 'image') writeInterior(cur[k], g, (image as RunImage).data);
+      if (f.init.kind === 'image') {
+        const p = fieldPictures[k] as RunImage;
+        writeInterior(cur[k], g, (scheme.dims === 1 ? middleRow(p) : p).data);
+      }
       else this.compiled.initField(k, g, this.ctx);
       fillGhosts(cur[k], g, this.ghosts[k]);
       // A fixed halo is written once; kernels never write ghost cells, so it survives every swap.

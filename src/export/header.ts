@@ -30,6 +30,16 @@ export function boundaryText(ir: ExportIR, k: number): string {
   return b.kind === 'fixed' ? `fixed ${fmt(b.value)}` : b.kind;
 }
 
+/**
+ * Which picture the caller puts into an input field: the main input or a named one, grey (BT.709 luma of colour
+ * pictures) or one channel. Input names and channels passed the checker's pattern, and still go through commentText.
+ */
+function inputText(image: { input: string | null; channel: string | null } | undefined): string {
+  const which = image?.input ? `the input "${commentText(image.input)}"` : 'the input image';
+  const channel = image?.channel && image.channel !== 'luma' ? `its ${commentText(image.channel)} channel` : image?.channel === 'luma' ? 'its BT.709 luma' : null;
+  return `from ${which}${channel ? ` (${channel})` : ''}, filled by the caller before stepping`;
+}
+
 /** Plain header lines (no comment markers); every piece of user text goes through commentText. */
 export function headerLines(ir: ExportIR, o: ExportOptions, target: string, arithmetic: string): string[] {
   const lines = [
@@ -45,7 +55,7 @@ export function headerLines(ir: ExportIR, o: ExportOptions, target: string, arit
   lines.push(`Storage: ${o.dtype}; arithmetic: ${arithmetic}.`);
   lines.push('Fields (declaration order):');
   ir.fields.forEach((f, k) => {
-    lines.push(`  ${commentText(f.name)}: ${f.init === null ? 'from the input image' : 'initial value computed from x, y and params'}, boundary ${boundaryText(ir, k)}${f.updated ? '' : ', never updated'}`);
+    lines.push(`  ${commentText(f.name)}: ${f.init === null ? inputText(f.image) : 'initial value computed from x, y and params'}, boundary ${boundaryText(ir, k)}${f.updated ? '' : ', never updated'}`);
   });
   if (ir.params.length) {
     lines.push('Params (defaults as declared):');

@@ -86,6 +86,8 @@ export interface ExportField {
   readonly updated: boolean;
   /** Initial value over the interior, or null for `image` fields. */
   readonly init: number | null;
+  /** For fields filled by the caller (`init` null): the input they read (null: the main one) and the channel (null: grey/luma). */
+  readonly image?: { readonly input: string | null; readonly channel: string | null };
   readonly line: number;
 }
 
@@ -311,6 +313,7 @@ export function lowerScheme(scheme: CheckedScheme): ExportIR {
       boundary: f.boundary,
       updated: f.updated,
       init: f.init.kind === 'expr' ? low.lower(f.init.expr, ROOT, 'init') : null,
+      ...(f.init.kind === 'image' ? { image: { input: f.init.input, channel: f.init.channel } } : {}),
       line: f.range.start.line,
     }));
     const params: ExportParam[] = scheme.params.map(p => ({ name: p.name, value: p.value, lo: p.lo, hi: p.hi }));

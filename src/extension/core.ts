@@ -12,4 +12,5 @@ export { initialState } from '../analysis/stabilityState';
 export type Core = typeof import('./core');
 export { EngineWorker } from '../engine/worker/workerClient';
 export { makeScene } from '../images/scenes';
+export { makeMask } from '../images/inputs';
 export { encodeImage, formatFromExtension } from '../images/codec';

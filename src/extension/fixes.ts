@@ -131,6 +131,12 @@ export function fixesFor(d: Diagnostic, program: Program, text: string, opts: Fi
       }
       break;
     }
+    case 'image-channel': {
+      const name = str(data.name);
+      const suggestion = str(data.suggestion);
+      if (suggestion) out.push({ title: `Replace \`.${name ?? ''}\` by \`.${suggestion}\``, edits: [{ start: d.range.start.offset, end: d.range.end.offset, newText: suggestion }], preferred: true });
+      break;
+    }
     case 'step-name': {
       const replacement = str(data.replacement) ?? 'dt';
       out.push({ title: `Rename the step to \`${replacement}\``, edits: [{ start: d.range.start.offset, end: d.range.end.offset, newText: replacement }], preferred: true });

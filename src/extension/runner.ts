@@ -52,8 +52,12 @@ export class SchemeRunner extends Disposable {
     this.changed.fire(doc.uri);
     const t0 = Date.now();
     try {
+      // Named inputs (`image "mask"`) get the generated mask, as in the live run until the user chooses a file.
+      const named = scene ? checked.scheme.fields.filter((f) => f.init.kind === 'image' && f.init.input !== null) : [];
+      const fieldImages = Object.fromEntries(named.map((f) => [f.name, core.makeMask(scene!.noisy.width, scene!.noisy.height)]));
       const handle = this.engine.start({ source: doc.getText() }, {
         image: scene ? scene.noisy : null,
+        ...(named.length ? { fieldImages } : {}),
         width: size,
         height: checked.scheme.dims === 1 ? 1 : size,
         every: 0,

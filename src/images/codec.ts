@@ -2,8 +2,8 @@
 // Pure (Uint8Array in and out); must not import fs or path — file handling lives in files.ts.
 
 import { decodeJpeg, readJpegHeader } from './jpeg';
-import { decodePfm, decodePgm, encodePfm, encodePgm, readPfmHeader, readPgmHeader } from './netpbm';
-import { decodePng, encodePng, readPngHeader } from './png';
+import { decodePfm, decodePgm, encodePfm, encodePfmColour, encodePgm, readPfmHeader, readPgmHeader } from './netpbm';
+import { decodePng, encodePng, encodeRgbPng, readPngHeader } from './png';
 import { decodeTiff, encodeFloatTiff, readTiffHeader } from './tiff';
 import {
   DEFAULT_MAX_PIXELS,
@@ -145,6 +145,24 @@ export function encodeImage(image: GreyImage, format: WritableFormat, opts: Enco
     case 'pfm': return encodePfm(image);
     case 'tiff': return encodeFloatTiff(image);
   }
+}
+
+/**
+ * Encodes three channels as one colour picture: RGB PNG (8 or 16 bits, clamped and rounded as for grey) or colour
+ * PFM (PF, values unchanged). PGM holds grey only and our TIFF writer one float channel: both are refused.
+ */
+export function encodeColourImage(r: GreyImage, g: GreyImage, b: GreyImage, format: WritableFormat, opts: EncodeOptions = {}): Uint8Array {
+  const { width, height } = r;
+  for (const c of [r, g, b]) {
+    if (c.width !== width || c.height !== height || c.data.length !== width * height || width < 1 || height < 1) {
+      throw new ImageError('bad-option', `cannot encode colour channels of sizes ${r.width}x${r.height}, ${g.width}x${g.height}, ${b.width}x${b.height}`);
+    }
+  }
+  const bitDepth = opts.bitDepth ?? 8;
+  if (bitDepth !== 8 && bitDepth !== 16) throw new ImageError('bad-option', `bitDepth must be 8 or 16, got ${bitDepth}`);
+  if (format === 'png') return encodeRgbPng(r, g, b, bitDepth);
+  if (format === 'pfm') return encodePfmColour(r, g, b);
+  throw new ImageError('bad-option', `a colour result is written as .png or .pfm; ${format === 'pgm' ? 'PGM' : 'the TIFF writer'} holds one grey channel (pick one channel with --field NAME)`);
 }
 
 /** Output format from a file name's extension (.png, .pgm, .pfm, .tif, .tiff; case-insensitive); null if none. */

@@ -3,7 +3,8 @@
 
 import { promises as fs } from 'node:fs';
 import * as path from 'node:path';
-import { EncodeOptions, decodeImage, encodeImage, formatFromExtension } from './codec';
+import { createHash } from 'node:crypto';
+import { EncodeOptions, decodeImage, encodeColourImage, encodeImage, formatFromExtension } from './codec';
 import { DecodeOptions, DecodedImage, GreyImage, ImageError } from './types';
 
 /** Reads and decodes an image file; the format comes from the file's magic bytes, not its name. */
@@ -17,6 +18,28 @@ export async function readImageFile(filePath: string, opts: DecodeOptions = {}):
     if (e instanceof ImageError) throw new ImageError(e.code, `${filePath}: ${e.message}`);
     throw e;
   }
+}
+
+/**
+ * Reads and decodes an image file and returns the SHA-256 (hex) of the file's bytes as read, for provenance records.
+ */
+export async function readImageFileHashed(filePath: string, opts: DecodeOptions = {}): Promise<{ image: DecodedImage; sha256: string }> {
+  const buf = await fs.readFile(filePath);
+  const sha256 = createHash('sha256').update(buf).digest('hex');
+  const bytes = new Uint8Array(buf.buffer, buf.byteOffset, buf.byteLength);
+  try {
+    return { image: decodeImage(bytes, opts), sha256 };
+  } catch (e) {
+    if (e instanceof ImageError) throw new ImageError(e.code, `${filePath}: ${e.message}`);
+    throw e;
+  }
+}
+
+/** Writes three channels as one colour picture (.png RGB or .pfm PF), replacing the target only once complete. */
+export async function writeColourImageFile(filePath: string, r: GreyImage, g: GreyImage, b: GreyImage, opts: EncodeOptions = {}): Promise<void> {
+  const format = formatFromExtension(filePath);
+  if (format === null) throw new ImageError('bad-option', `${filePath}: cannot tell the output format; use .png or .pfm for a colour result`);
+  await writeFileAtomically(filePath, encodeColourImage(r, g, b, format, opts));
 }
 
 /**

@@ -170,3 +170,22 @@ export function encodePfm(image: GreyImage): Uint8Array {
   }
   return out;
 }
+
+/** Colour PFM (PF), little-endian (scale -1), rows bottom to top, R G B interleaved, values unchanged. */
+export function encodePfmColour(r: GreyImage, g: GreyImage, b: GreyImage): Uint8Array {
+  const { width, height } = r;
+  const head = new TextEncoder().encode(`PF\n${width} ${height}\n-1.0\n`);
+  const out = new Uint8Array(head.length + width * height * 12);
+  out.set(head, 0);
+  const view = new DataView(out.buffer, head.length);
+  for (let fileRow = 0; fileRow < height; fileRow++) {
+    const y = height - 1 - fileRow;
+    for (let x = 0; x < width; x++) {
+      const i = y * width + x, at = (fileRow * width + x) * 12;
+      view.setFloat32(at, r.data[i], true);
+      view.setFloat32(at + 4, g.data[i], true);
+      view.setFloat32(at + 8, b.data[i], true);
+    }
+  }
+  return out;
+}

@@ -1,4 +1,4 @@
-// Reads PNG (all bit depths and colour types) through pngjs and writes 8/16-bit grey PNG.
+// Reads PNG (all bit depths and colour types) through pngjs and writes 8/16-bit grey or RGB PNG.
 // Pure: Uint8Array in and out; must not import fs or other codecs. pngjs itself uses Node's zlib.
 
 import { PNG } from 'pngjs';
@@ -47,7 +47,8 @@ export function decodePng(bytes: Uint8Array, h: PngHeader, maxPixels: number): R
   const colour = h.colorType === 2 || h.colorType === 6 || palette;
   // Palette entries are always 8-bit RGB, whatever the index bit depth.
   const maxval = palette ? 255 : 2 ** h.bitDepth - 1;
-  return { width: h.width, height: h.height, samples: png.data, spp: 4, colour, maxval };
+  // pngjs fills alpha (sample 3) from the file's alpha or tRNS, and with maxval where the file has none.
+  return { width: h.width, height: h.height, samples: png.data, spp: 4, colour, maxval: maxval, alpha: 3 };
 }
 
 /** Grey PNG (colour type 0); values clamped to [0,1] and rounded to the nearest of 0..2^bitDepth-1. */
@@ -65,5 +66,22 @@ export function encodePng(image: GreyImage, bitDepth: 8 | 16): Uint8Array {
     png.data = Buffer.from(u16.buffer);
   }
   const out = PNG.sync.write(png, { colorType: 0, inputColorType: 0, bitDepth, inputHasAlpha: false });
+  return new Uint8Array(out.buffer, out.byteOffset, out.byteLength);
+}
+
+/** RGB PNG (colour type 2); each channel clamped to [0,1] and rounded to the nearest of 0..2^bitDepth-1. */
+export function encodeRgbPng(r: GreyImage, g: GreyImage, b: GreyImage, bitDepth: 8 | 16): Uint8Array {
+  const { width, height } = r;
+  const n = width * height;
+  const png = new PNG({ width, height, colorType: 2, inputColorType: 2, bitDepth, inputHasAlpha: false });
+  const max = bitDepth === 8 ? 255 : 65535;
+  const vals = bitDepth === 8 ? new Uint8Array(3 * n) : new Uint16Array(3 * n);
+  for (let i = 0; i < n; i++) {
+    vals[3 * i] = quantise(r.data[i], max);
+    vals[3 * i + 1] = quantise(g.data[i], max);
+    vals[3 * i + 2] = quantise(b.data[i], max);
+  }
+  png.data = Buffer.from(vals.buffer, vals.byteOffset, vals.byteLength);
+  const out = PNG.sync.write(png, { colorType: 2, inputColorType: 2, bitDepth, inputHasAlpha: false });
   return new Uint8Array(out.buffer, out.byteOffset, out.byteLength);
 }

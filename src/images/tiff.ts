@@ -160,6 +160,8 @@ export function decodeTiff(bytes: Uint8Array, h: TiffHeader, maxPixels: number):
     colour,
     maxval: fmt === 3 ? null : 2 ** bps - 1,
     whiteIsZero: photometric === 0,
+    // The first extra sample (ExtraSamples) is taken as alpha, as TIFF writers use it (common practice).
+    ...(spp > (colour ? 3 : 1) ? { alpha: colour ? 3 : 1 } : {}),
   };
 }
 

@@ -42,8 +42,12 @@ export interface DecodeOptions {
   maxPixels?: number;
   /** Integer formats only: value = (sample - lo) / (hi - lo) instead of sample / (2^bits - 1). Ignored for float formats. */
   range?: { lo: number; hi: number };
-  /** 'luma' (default) gives one BT.709 grey channel; 'separate' gives R, G, B as separate channels for colour files. */
-  channels?: 'luma' | 'separate';
+  /**
+   * 'luma' (default) gives one BT.709 grey channel; 'separate' gives R, G, B as separate channels for colour files;
+   * 'all' gives R, G, B, A and Y (BT.709 luma) for every file (grey files: the grey value as R, G, B and Y;
+   * alpha 1 where none is stored).
+   */
+  channels?: 'luma' | 'separate' | 'all';
 }
 
 export interface DecodedImage {
@@ -57,7 +61,7 @@ export interface DecodedImage {
   colour: boolean;
   /** The divisor mapping used for integer formats, value = (sample - lo) / (hi - lo); null for float formats. */
   scaling: { lo: number; hi: number } | null;
-  /** Names of the returned channels: ['grey'], ['luma'] or ['R', 'G', 'B']. */
+  /** Names of the returned channels: ['grey'], ['luma'], ['R', 'G', 'B'] or ['R', 'G', 'B', 'A', 'Y']. */
   channelNames: string[];
   channels: GreyImage[];
 }

@@ -23,6 +23,8 @@ export interface RawSamples {
   maxval: number | null;
   /** TIFF PhotometricInterpretation 0 (WhiteIsZero): integer value becomes maxval - sample before scaling. */
   whiteIsZero?: boolean;
+  /** Index of the alpha sample within a pixel's samples, when the file stores one. */
+  alpha?: number;
 }
 
 export interface ChannelResult {
@@ -53,6 +55,35 @@ export function toChannels(raw: RawSamples, opts: DecodeOptions): ChannelResult 
     const t = flip ? (maxval as number) - s : s;
     return scaling ? (t - lo) * inv : t;
   };
+  if (opts.channels === 'all') {
+    // Every picture as red, green, blue, alpha and luma: grey files give the grey value in the three colour
+    // channels and as luma; alpha is sample / maxval by its own bit depth (never by `range`, which describes the
+    // data), 1 where the file stores none. Luma is computed exactly as the 'luma' mode does (Float64, one rounding).
+    const r = new Float32Array(n);
+    const g = colour ? new Float32Array(n) : r;
+    const b = colour ? new Float32Array(n) : r;
+    const y = colour ? new Float32Array(n) : r;
+    const a = new Float32Array(n);
+    const ai = raw.alpha !== undefined && raw.alpha < spp ? raw.alpha : -1;
+    const alphaScale = maxval === null ? 1 : 1 / maxval;
+    for (let i = 0, j = 0; i < n; i++, j += spp) {
+      const vr = value(samples[j]);
+      r[i] = vr;
+      if (colour) {
+        const vg = value(samples[j + 1]);
+        const vb = value(samples[j + 2]);
+        g[i] = vg;
+        b[i] = vb;
+        y[i] = LUMA_709.r * vr + LUMA_709.g * vg + LUMA_709.b * vb;
+      }
+      a[i] = ai < 0 ? 1 : samples[j + ai] * alphaScale;
+    }
+    return {
+      channels: [{ width, height, data: r }, { width, height, data: g }, { width, height, data: b }, { width, height, data: a }, { width, height, data: y }],
+      channelNames: ['R', 'G', 'B', 'A', 'Y'],
+      scaling,
+    };
+  }
   if (!colour) {
     const out = new Float32Array(n);
     for (let i = 0, j = 0; i < n; i++, j += spp) out[i] = value(samples[j]);

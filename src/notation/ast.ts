@@ -148,8 +148,20 @@ export interface UntilDecl { readonly kind: 'until'; readonly variable: Ident; r
 /** `until change < 1e-4`: stop once the RMS change of a step is below the tolerance. */
 export interface UntilChangeDecl { readonly kind: 'untilChange'; readonly variable: Ident; readonly tolerance: NumberLit; readonly range: SourceRange }
 
+/**
+ * `image`, `image "mask"`, `image.red`, `image "guide".luma`: a picture given to the run. `input` names a second
+ * input (null: the main one); `channel` picks one channel (null: the grey picture, BT.709 luma for colour files).
+ * `input.name` is the text between the quotes; its range covers the quotes.
+ */
+export interface ImageInit {
+  readonly kind: 'image';
+  readonly input: Ident | null;
+  readonly channel: Ident | null;
+  readonly range: SourceRange;
+}
+
 export type FieldInit =
-  | { readonly kind: 'image'; readonly range: SourceRange }
+  | ImageInit
   | { readonly kind: 'expr'; readonly expr: Expr; readonly range: SourceRange };
 
 export interface FieldDecl { readonly kind: 'field'; readonly name: Ident; readonly init: FieldInit | null; readonly range: SourceRange }

@@ -7,7 +7,7 @@ import { walkExpr } from './ast';
 import { applyBuiltin, BUILTIN_FUNCTIONS, BUILTIN_SETS, MAX_OFFSET } from './builtins';
 import type { Diagnostic, RelatedInfo, CheckerCode } from './diagnostics';
 import {
-  CONSTANT_NAMES, STOP_CHANGE_CAP, type Boundary, type CheckedScheme, type FieldInfo, type FunctionInfo, type LetInfo,
+  CONSTANT_NAMES, IMAGE_CHANNELS, INPUT_NAME, STOP_CHANGE_CAP, type Boundary, type ImageChannel, type CheckedScheme, type FieldInfo, type FunctionInfo, type LetInfo,
   type Offset, type ParamInfo, type SymbolKind, type UpdateInfo,
 } from './scheme';
 
@@ -578,7 +578,7 @@ class Checker {
         this.error('field-uninitialised', d.name.range, `The field \`${name}\` has no initial value: write \`field ${name} = image\`, a number, or an expression in x and y.`, {
           data: { name },
         });
-      } else if (d.init.kind === 'image') init = { kind: 'image' };
+      } else if (d.init.kind === 'image') init = this.imageBinding(d.init);
       else {
         const scope: Scope = { reduceVars: new Set(), fnArgs: new Set(), context: 'field-init' };
         this.expr(d.init.expr, scope);
@@ -594,6 +594,26 @@ class Checker {
       });
     }
     return out;
+  }
+
+  /** `image ["NAME"] [.channel]`: checks the input name and the channel. */
+  private imageBinding(init: A.ImageInit): FieldInfo['init'] {
+    const input = init.input;
+    if (input && !INPUT_NAME.test(input.name)) {
+      this.error('image-input-name', input.range, `\`"${input.name}"\` cannot name an input: use a letter, then letters, digits, \`_\` or \`-\` (e.g. \`image "mask"\`).`);
+    }
+    let channel: ImageChannel | null = null;
+    if (init.channel) {
+      const name = init.channel.name;
+      if ((IMAGE_CHANNELS as readonly string[]).includes(name)) channel = name as ImageChannel;
+      else {
+        const suggestion = suggestName(name, IMAGE_CHANNELS);
+        this.error('image-channel', init.channel.range, `\`${name}\` is not a channel; an image has ${IMAGE_CHANNELS.map((c) => `\`.${c}\``).join(', ')}${suggestion ? `; did you mean \`.${suggestion}\`?` : '.'}`, {
+          data: suggestion ? { name, suggestion } : { name },
+        });
+      }
+    }
+    return { kind: 'image', input: input ? input.name : null, channel };
   }
 
   // ---------------------------------------------------------------- updates

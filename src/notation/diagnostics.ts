@@ -78,6 +78,8 @@ export const CODES = {
   'unused-set': 'a neighbour set never used (warning)',
   'stop-rule-conflict': 'two different stopping rules (`steps N`, `until t = T`, `until change < tol`) in one scheme',
   'until-change-invalid': '`until … < tol` on something other than `change`, or a tolerance that is not a positive number',
+  'image-channel': 'a channel after `image.` other than red, green, blue, alpha or luma',
+  'image-input-name': 'an input name in `image "NAME"` that is not a letter followed by letters, digits, `_` or `-`',
 } as const;
 
 export type CheckerCode = keyof typeof CODES;

@@ -198,7 +198,7 @@ class FluxelParser extends EmbeddedActionsParser {
     const init = this.OPTION(() => {
       this.CONSUME(T.Equals);
       return this.OR([
-        { ALT: () => { const t = this.CONSUME(T.ImageKw); return this.ACTION((): A.FieldInit => ({ kind: 'image', range: this.tr(t) })); } },
+        { ALT: () => this.SUBRULE(this.imageInit) },
         { ALT: () => { const e = this.SUBRULE(this.expression); return this.ACTION((): A.FieldInit => ({ kind: 'expr', expr: e, range: e.range })); } },
       ]);
     });
@@ -208,6 +208,24 @@ class FluxelParser extends EmbeddedActionsParser {
       return { kind: 'field', name: id, init: init ?? null, range: this.span(this.tr(kw), init ? init.range : id.range) };
     });
   }, { recoveryValueFunc: () => null });
+
+  /** `image`, then an optional input name in quotes, then an optional `.channel`. */
+  imageInit = this.RULE('imageInit', (): A.FieldInit => {
+    const kw = this.CONSUME(T.ImageKw);
+    const str = this.OPTION(() => this.CONSUME(T.StringLit));
+    const channel = this.OPTION2(() => {
+      this.CONSUME(T.Dot);
+      return this.CONSUME(T.Identifier);
+    });
+    return this.ACTION((): A.FieldInit => {
+      const input = usable(str) ? { name: str.image.slice(1, -1), range: this.tr(str) } : null;
+      const ch = channel ? this.ident(channel) : null;
+      let range = this.tr(kw);
+      if (input) range = this.span(range, input.range);
+      if (ch) range = this.span(range, ch.range);
+      return { kind: 'image', input, channel: ch, range };
+    });
+  });
 
   functionDecl = this.RULE('functionDecl', (): A.Decl | null => {
     const kw = this.OR([
@@ -555,7 +573,7 @@ const TOKEN_WORDS: Record<string, string> = {
   Identifier: 'a name', NumberLit: 'a number', GridDims: '`1d` or `2d`', Equals: '`=`', Prime: '`\'`',
   LParen: '`(`', RParen: '`)`', LBracket: '`[`', RBracket: '`]`', LBrace: '`{`', RBrace: '`}`', Comma: '`,`', Colon: '`:`',
   AddOp: '`+` or `-`', MulOp: '`*` or `/`', Caret: '`^`', Comparison: 'a comparison', In: '`in`', Then: '`then`', Else: '`else`',
-  Reflect: '`reflect`', Periodic: '`periodic`', Fixed: '`fixed`', ImageKw: '`image`', EOF: 'the end of the declaration', BinaryOp: 'an operator', PrefixOp: '`not` or a sign',
+  Reflect: '`reflect`', Periodic: '`periodic`', Fixed: '`fixed`', ImageKw: '`image`', Dot: '`.`', StringLit: 'a name in double quotes', EOF: 'the end of the declaration', BinaryOp: 'an operator', PrefixOp: '`not` or a sign',
 };
 
 /** Our own wording for chevrotain's recognition errors: what was found, and what would fit. */

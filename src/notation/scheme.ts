@@ -14,13 +14,31 @@ export type Offset = readonly number[]; // length 1 (1d) or 2 (2d): [dx] or [dx,
 export interface FieldInfo {
   readonly name: string;
   readonly index: number;
-  /** `image` takes the input picture; `expr` is evaluated per pixel from x, y, params and constants. */
-  readonly init: { readonly kind: 'image' } | { readonly kind: 'expr'; readonly expr: Expr };
+  /**
+   * `image` takes a picture given to the run: `input` null is the main input, else a named one (`image "mask"`);
+   * `channel` null is the grey picture (BT.709 luma of colour files), else one channel. `expr` is evaluated per
+   * pixel from x, y, params and constants.
+   */
+  readonly init: ImageBinding | { readonly kind: 'expr'; readonly expr: Expr };
   readonly boundary: Boundary;
   readonly range: SourceRange;
   /** True when some update assigns this field. Fields without an update stay constant. */
   readonly updated: boolean;
 }
+
+/** The channels `image.NAME` may pick. */
+export const IMAGE_CHANNELS = ['red', 'green', 'blue', 'alpha', 'luma'] as const;
+export type ImageChannel = (typeof IMAGE_CHANNELS)[number];
+
+/** Which picture, and which channel of it, an `image` field starts from. */
+export interface ImageBinding {
+  readonly kind: 'image';
+  readonly input: string | null;
+  readonly channel: ImageChannel | null;
+}
+
+/** Input names: a letter, then letters, digits, `_` or `-` (they appear on command lines as NAME=PATH). */
+export const INPUT_NAME = /^[A-Za-z][A-Za-z0-9_-]*$/;
 
 export interface ParamInfo {
   readonly name: string;

@@ -77,6 +77,10 @@ export const LBrace = createToken({ name: 'LBrace', pattern: /\{/ });
 export const RBrace = createToken({ name: 'RBrace', pattern: /\}/ });
 export const Comma = createToken({ name: 'Comma', pattern: /,/ });
 export const Colon = createToken({ name: 'Colon', pattern: /:/ });
+/** `.` in `image.red`; after NumberLit in `allTokens`, so `.5` stays a number. */
+export const Dot = createToken({ name: 'Dot', pattern: /\./ });
+/** A double-quoted name on one line, as in `image "mask"` (no escapes: input names are plain words). */
+export const StringLit = createToken({ name: 'StringLit', pattern: /"[^"\r\n]*"/ });
 
 export const allTokens: TokenType[] = [
   WhiteSpace, Comment,
@@ -87,7 +91,7 @@ export const allTokens: TokenType[] = [
   GridDims, NumberLit,
   LessEq, GreaterEq, EqEq, NotEq, Less, Greater, Comparison,
   Plus, Minus, AddOp, Star, Slash, MulOp, Caret, BinaryOp, PrefixOp,
-  Equals, Prime, LParen, RParen, LBracket, RBracket, LBrace, RBrace, Comma, Colon,
+  Equals, Prime, LParen, RParen, LBracket, RBracket, LBrace, RBrace, Comma, Colon, Dot, StringLit,
 ];
 
 /** Words with a fixed meaning in declarations; they cannot name fields, params or functions. */

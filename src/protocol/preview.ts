@@ -9,13 +9,28 @@ export interface WireRange {
   readonly end: { readonly line: number; readonly column: number };
 }
 
-export const SCENE_NAMES = ['survey', 'cells', 'card'] as const;
+export const SCENE_NAMES = ['survey', 'cells', 'card', 'palette'] as const;
 export type SceneName = (typeof SCENE_NAMES)[number];
 
 /** What the scheme runs on: a generated scene (noisy input, clean reference) or an image file (a URI string). */
 export type InputChoice =
   | { readonly kind: 'scene'; readonly scene: SceneName; readonly noise: number; readonly seed: number }
-  | { readonly kind: 'file'; readonly uri: string };
+  | { readonly kind: 'file'; readonly uri: string; readonly range?: SampleRange };
+
+/** `--range LO:HI` for integer files: value = (sample − lo) / (hi − lo). */
+export interface SampleRange { readonly lo: number; readonly hi: number }
+
+/** What a named input (`image "mask"`) runs on: the generated mask (the default) or an image file. */
+export type NamedInputChoice =
+  | { readonly kind: 'mask' }
+  | { readonly kind: 'file'; readonly uri: string; readonly range?: SampleRange };
+
+/** One named input of the scheme, with its current choice and a label for it. */
+export interface NamedInputSpec {
+  readonly name: string;
+  readonly choice: NamedInputChoice;
+  readonly label: string;
+}
 
 /** One knob: a `param` with its declared range (null bounds when the file gives none). */
 export interface KnobSpec {
@@ -75,6 +90,8 @@ export namespace ToPreview {
     readonly inputLabel: string;
     /** Whether "fit knobs" can run now, and the button's tooltip (why it cannot, or what it will do). */
     readonly fit?: { readonly ready: boolean; readonly note: string };
+    /** The named inputs the scheme reads (`image "NAME"`), in order of first use; absent or empty when none. */
+    readonly namedInputs?: readonly NamedInputSpec[];
   }
   /** A run begins: sizes of the full-resolution grid and of the frames that will be posted. */
   export interface RunStarted extends Base {
@@ -102,6 +119,8 @@ export namespace ToPreview {
     readonly data: Float32Array;
     readonly stats: WireStats;
     readonly psnr: number | null;
+    /** Schemes binding image.red, .green and .blue: those three fields at this step, same size as `data`, for a colour view. */
+    readonly colour?: { readonly red: Float32Array; readonly green: Float32Array; readonly blue: Float32Array };
   }
   export interface Finding extends Base { readonly type: 'finding'; readonly runId: number; readonly finding: WireFinding }
   export interface RunEnded extends Base {
@@ -190,6 +209,10 @@ export namespace FromPreview {
   export interface SetInput extends Base { readonly type: 'setInput'; readonly input: InputChoice }
   /** Opens the host's file picker for an image. */
   export interface ChooseImage extends Base { readonly type: 'chooseImage' }
+  /** Sets what a named input runs on. */
+  export interface SetNamedInput extends Base { readonly type: 'setNamedInput'; readonly name: string; readonly input: NamedInputChoice }
+  /** Opens the host's file picker for a named input. */
+  export interface ChooseNamedImage extends Base { readonly type: 'chooseNamedImage'; readonly name: string }
   export interface ShowField extends Base { readonly type: 'showField'; readonly field: string }
   /** Click on a pixel (full-resolution coordinates) of the frame at `step`. */
   export interface PickPixel extends Base { readonly type: 'pickPixel'; readonly runId: number; readonly step: number; readonly x: number; readonly y: number }
@@ -199,7 +222,7 @@ export namespace FromPreview {
   export interface Rerun extends Base { readonly type: 'rerun' }
   /** Fits the knobs that declare a range (or only `names`, when given) on the current scene; see ToPreview.Fit. */
   export interface FitKnobs extends Base { readonly type: 'fitKnobs'; readonly names?: readonly string[] }
-  export type Type = Ready | SetKnobs | WriteKnobs | SetInput | ChooseImage | ShowField | PickPixel | RequestProfile | Reveal | Rerun | FitKnobs;
+  export type Type = Ready | SetKnobs | WriteKnobs | SetInput | ChooseImage | ShowField | PickPixel | RequestProfile | Reveal | Rerun | FitKnobs | SetNamedInput | ChooseNamedImage;
 }
 
 // ------------------------------------------------------------------------------------------------ validation
@@ -247,7 +270,31 @@ export function validInput(v: unknown): InputChoice | null {
     if (!int(v.seed) || v.seed > MAX_SEED) return null;
     return { kind: 'scene', scene: v.scene as SceneName, noise: v.noise, seed: v.seed };
   }
-  if (v.kind === 'file' && str(v.uri, 4096) && v.uri.length > 0) return { kind: 'file', uri: v.uri };
+  if (v.kind === 'file' && str(v.uri, 4096) && v.uri.length > 0) {
+    if (v.range === undefined) return { kind: 'file', uri: v.uri };
+    const r = sampleRange(v.range);
+    return r ? { kind: 'file', uri: v.uri, range: r } : null;
+  }
+  return null;
+}
+
+/** A finite range with lo < hi, or null. */
+export function sampleRange(v: unknown): SampleRange | null {
+  return isObj(v) && num(v.lo) && num(v.hi) && v.hi > v.lo ? { lo: v.lo, hi: v.hi } : null;
+}
+
+/** Input names as the notation allows them (notation/scheme.ts INPUT_NAME, restated: this file imports no other folder). */
+const INPUT_NAME_RE = /^[A-Za-z][A-Za-z0-9_-]*$/;
+const inputName = (v: unknown): v is string => str(v, 200) && INPUT_NAME_RE.test(v);
+
+export function validNamedInput(v: unknown): NamedInputChoice | null {
+  if (!isObj(v)) return null;
+  if (v.kind === 'mask') return { kind: 'mask' };
+  if (v.kind === 'file' && str(v.uri, 4096) && v.uri.length > 0) {
+    if (v.range === undefined) return { kind: 'file', uri: v.uri };
+    const r = sampleRange(v.range);
+    return r ? { kind: 'file', uri: v.uri, range: r } : null;
+  }
   return null;
 }
 
@@ -283,6 +330,12 @@ export function validateFromPreview(raw: unknown): FromPreview.Type | null {
     }
     case 'showField':
       return name(raw.field) ? { type: 'showField', source, field: raw.field } : null;
+    case 'setNamedInput': {
+      const input = validNamedInput(raw.input);
+      return input && inputName(raw.name) ? { type: 'setNamedInput', source, name: raw.name, input } : null;
+    }
+    case 'chooseNamedImage':
+      return inputName(raw.name) ? { type: 'chooseNamedImage', source, name: raw.name } : null;
     case 'pickPixel':
       if (!int(raw.runId) || !int(raw.step) || !int(raw.x) || !int(raw.y)) return null;
       return { type: 'pickPixel', source, runId: raw.runId, step: raw.step, x: raw.x, y: raw.y };
@@ -346,9 +399,20 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
         if (!isObj(raw.fit) || typeof raw.fit.ready !== 'boolean' || !str(raw.fit.note, 1000)) return null;
         fit = { ready: raw.fit.ready, note: raw.fit.note };
       }
+      let namedInputs: NamedInputSpec[] | undefined;
+      if (raw.namedInputs !== undefined) {
+        if (!Array.isArray(raw.namedInputs) || raw.namedInputs.length > 50) return null;
+        namedInputs = [];
+        for (const n of raw.namedInputs) {
+          const choice = isObj(n) ? validNamedInput(n.choice) : null;
+          if (!isObj(n) || !choice || !inputName(n.name) || !str(n.label, 4096)) return null;
+          namedInputs.push({ name: n.name, choice, label: n.label });
+        }
+      }
       return {
         type: 'scheme', source, fileName: raw.fileName, dims: raw.dims, fields: raw.fields as string[], knobs: knobs as KnobSpec[], dt,
         steps: raw.steps, current: { values, dt: raw.current.dt }, input, inputLabel: raw.inputLabel, ...(fit ? { fit } : {}),
+        ...(namedInputs ? { namedInputs } : {}),
       };
     }
     case 'runStarted':
@@ -363,7 +427,18 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
       const data = floats(raw.data, raw.width * raw.height);
       const stats = statsOf(raw.stats);
       if (!data || !stats || !(raw.psnr === null || typeof raw.psnr === 'number')) return null;
-      return { type: 'frame', source, runId: raw.runId, field: raw.field, step: raw.step, t: raw.t, width: raw.width, height: raw.height, data, stats, psnr: raw.psnr };
+      let colour: ToPreview.Frame['colour'];
+      if (raw.colour !== undefined) {
+        if (!isObj(raw.colour)) return null;
+        const n = raw.width * raw.height;
+        const red = floats(raw.colour.red, n), green = floats(raw.colour.green, n), blue = floats(raw.colour.blue, n);
+        if (!red || !green || !blue) return null;
+        colour = { red, green, blue };
+      }
+      return {
+        type: 'frame', source, runId: raw.runId, field: raw.field, step: raw.step, t: raw.t, width: raw.width, height: raw.height, data, stats, psnr: raw.psnr,
+        ...(colour ? { colour } : {}),
+      };
     }
     case 'finding': {
       const f = finding(raw.finding);

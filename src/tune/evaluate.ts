@@ -23,6 +23,8 @@ export interface Curve {
 
 export interface EvaluationTask {
   readonly image: RunImage;
+  /** The picture of each `image` field by name (named inputs, channels); see the engine's RunOptions. */
+  readonly fieldImages?: Readonly<Record<string, RunImage>>;
   readonly reference: RunImage;
   readonly steps: number;
   readonly metric: MetricName;
@@ -72,7 +74,7 @@ export function evaluateSetting(scheme: CheckedScheme, task: EvaluationTask, set
     if (name === 'dt') dt = v;
     else params[name] = v;
   }
-  const run = createRun(scheme, { image: task.image, params, dt, steps: task.steps, dtype: task.dtype ?? 'float32' });
+  const run = createRun(scheme, { image: task.image, fieldImages: task.fieldImages ?? null, params, dt, steps: task.steps, dtype: task.dtype ?? 'float32' });
   const k = pictureField(scheme);
   const measure = metricAgainst(referenceFor(scheme, task.reference), task.metric);
   const values = new Float64Array(task.steps + 1).fill(Number.NaN);

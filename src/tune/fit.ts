@@ -38,7 +38,7 @@ export class FitCancelled extends Error {
 }
 
 /** What a fit needs of a tuning problem: the scheme's text and the noisy and clean pictures. */
-export type FitProblem = Pick<Problem, 'source' | 'image' | 'reference'>;
+export type FitProblem = Pick<Problem, 'source' | 'image' | 'reference' | 'fieldImages'>;
 
 export interface FitResult {
   readonly method: 'golden-section' | 'nelder-mead';
@@ -59,7 +59,7 @@ export async function runFit(problem: FitProblem, opts: FitOptions): Promise<Fit
   const signal = opts.signal;
   if (signal?.aborted) throw new FitCancelled();
   const pool = await TunePool.open(opts.workers, {
-    source: problem.source, image: problem.image, reference: problem.reference,
+    source: problem.source, image: problem.image, reference: problem.reference, ...(problem.fieldImages ? { fieldImages: problem.fieldImages } : {}),
     steps: opts.steps, metric: opts.metric, dtype: opts.dtype ?? 'float32', ...(opts.backend ? { backend: opts.backend } : {}),
   });
   const history: FitResult['history'][number][] = [];

@@ -5,8 +5,10 @@
 import { createHash } from 'node:crypto';
 import { promises as fs } from 'node:fs';
 import * as path from 'node:path';
-import { makeScene } from '../images/scenes';
+import { InputBindingError } from '../images/inputs';
 import { ImageError } from '../images/types';
+import { UsageError } from '../cli/args';
+import { loadInputs, type InputRecord } from '../cli/inputs';
 import { parseAndCheck } from '../notation';
 import type { CheckedScheme } from '../notation/scheme';
 import { formatDiagnostic } from '../cli/check';
@@ -31,12 +33,18 @@ export interface Problem {
   readonly seed: number;
   readonly image: Picture;
   readonly reference: Picture;
+  /** The picture of each `image` field (named inputs, channels of a colour scene), by field name. */
+  readonly fieldImages?: Readonly<Record<string, Picture>>;
+  /** Where every picture came from (scene, named input files with their SHA-256). */
+  readonly inputs?: readonly InputRecord[];
 }
 
-export const PROBLEM_USAGE = 'FILE --scene NAME [--noise SIGMA] [--seed N] [--size WxH] [--steps N] [--metric psnr|ssim] [--workers N]';
+export const PROBLEM_USAGE = 'FILE --scene NAME [--noise SIGMA] [--seed N] [--size WxH] [--input NAME=PATH|NAME=scene:SCENE ...] [--range NAME=LO:HI] [--steps N] [--metric psnr|ssim] [--workers N]';
 
 export const PROBLEM_OPTIONS = {
   scene: { type: 'string' },
+  input: { type: 'string', multiple: true },
+  range: { type: 'string', multiple: true },
   noise: { type: 'string' },
   seed: { type: 'string' },
   size: { type: 'string' },
@@ -65,7 +73,7 @@ export function parseMetric(text: string | undefined): MetricName {
 }
 
 /** Reads and checks the scheme, makes the scene; diagnostics are printed as file:line:col lines in the error. */
-export async function loadProblem(file: string, o: { scene?: string; noise?: string; seed?: string; size?: string }): Promise<Problem> {
+export async function loadProblem(file: string, o: { scene?: string; noise?: string; seed?: string; size?: string; input?: string[]; range?: string[] }): Promise<Problem> {
   if (!o.scene) throw new ProblemError('--scene NAME is required (survey, cells or card): tuning needs the clean scene to measure against.', 2);
   let source: string;
   try {
@@ -88,23 +96,38 @@ export async function loadProblem(file: string, o: { scene?: string; noise?: str
   }
   const noise = o.noise === undefined ? undefined : parseNumber(o.noise, '--noise');
   const seed = o.seed === undefined ? undefined : parseWhole(o.seed, '--seed', 0, 0xffffffff);
+  // Tuning measures against the clean scene, so the main input is always the scene; named inputs may be files.
+  const named = (o.input ?? []).filter((v) => /^[A-Za-z][A-Za-z0-9_-]*=/.test(v));
+  if (named.length !== (o.input ?? []).length) throw new ProblemError('tuning runs on --scene: only named inputs (--input NAME=PATH) may be given.', 2);
+  let loaded;
   try {
-    const scene = makeScene(o.scene, { ...(size ?? {}), ...(noise !== undefined ? { noise } : {}), ...(seed !== undefined ? { seed } : {}) });
-    return {
-      file: path.normalize(file),
-      source,
-      sourceHash: createHash('sha256').update(source).digest('hex'),
-      scheme,
-      scene: scene.name,
-      noise: scene.options.noise,
-      seed: scene.options.seed,
-      image: scene.noisy,
-      reference: scene.clean,
-    };
+    loaded = await loadInputs(scheme, {
+      scene: o.scene, input: named, range: o.range, size,
+      ...(noise !== undefined ? { noise: String(noise) } : {}), ...(seed !== undefined ? { seed: String(seed) } : {}),
+    }, '');
   } catch (err) {
+    if (err instanceof UsageError) throw new ProblemError(err.message.trim(), 2);
     if (err instanceof ImageError) throw new ProblemError(err.message, err.code === 'bad-option' ? 2 : 1);
+    if (err instanceof InputBindingError) throw new ProblemError(`${file}:${err.range ? `${err.range.start.line}:${err.range.start.column}` : ''} ${err.code} ${err.message}`, 1);
+    const code = (err as NodeJS.ErrnoException).code;
+    if (code) throw new ProblemError(`cannot read ${(err as NodeJS.ErrnoException).path ?? 'an input'}: ${code}`, 1);
     throw err;
   }
+  const main = loaded.records.find((r) => r.name === null);
+  if (!loaded.image || !loaded.reference || !main) throw new ProblemError(`${file}: no field reads the main input (\`field NAME = image\`), so there is nothing to compare with the clean scene.`, 1);
+  return {
+    file: path.normalize(file),
+    source,
+    sourceHash: createHash('sha256').update(source).digest('hex'),
+    scheme,
+    scene: main.source.slice('scene:'.length),
+    noise: main.noise ?? 0,
+    seed: main.seed ?? 1,
+    image: loaded.image,
+    reference: loaded.reference,
+    fieldImages: loaded.fieldImages,
+    inputs: loaded.records,
+  };
 }
 
 /** JSON with non-finite numbers as the strings "inf", "-inf", "nan" (numerics.md: identical images print "inf"). */

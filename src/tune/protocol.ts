@@ -18,6 +18,8 @@ export namespace ToTuneWorker {
     /** The scheme as source text: each worker parses and checks it itself (no code crosses threads). */
     readonly source: string;
     readonly image: Picture;
+    /** The picture of each `image` field by name (named inputs, channels); absent: every image field takes `image`. */
+    readonly fieldImages?: Readonly<Record<string, Picture>>;
     readonly reference: Picture;
     readonly steps: number;
     readonly metric: MetricName;

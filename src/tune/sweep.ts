@@ -30,7 +30,7 @@ export async function runSweep(problem: Problem, opts: SweepOptions): Promise<Sw
   const settings = expandGrid(opts.axes);
   const t0 = performance.now();
   const pool = await TunePool.open(Math.min(opts.workers, settings.length), {
-    source: problem.source, image: problem.image, reference: problem.reference,
+    source: problem.source, image: problem.image, reference: problem.reference, ...(problem.fieldImages ? { fieldImages: problem.fieldImages } : {}),
     steps: opts.steps, metric: opts.metric, dtype: opts.dtype ?? 'float32',
   });
   let done = 0;
@@ -77,6 +77,7 @@ export function sweepSummary(problem: Problem, opts: SweepOptions, r: SweepResul
     scene: problem.scene,
     noise: problem.noise,
     seed: problem.seed,
+    ...(problem.inputs ? { inputs: problem.inputs } : {}),
     size: { width: problem.image.width, height: problem.image.height },
     steps: opts.steps,
     metric: opts.metric,

@@ -20,7 +20,7 @@ function setup(msg: ToTuneWorker.Setup): void {
     current = { error: first ? `${first.range.start.line}:${first.range.start.column}: ${first.message}` : 'the scheme has errors' };
     return;
   }
-  current = { scheme: checked.scheme, task: { image: msg.image, reference: msg.reference, steps: msg.steps, metric: msg.metric, dtype: msg.dtype } };
+  current = { scheme: checked.scheme, task: { image: msg.image, ...(msg.fieldImages ? { fieldImages: msg.fieldImages } : {}), reference: msg.reference, steps: msg.steps, metric: msg.metric, dtype: msg.dtype } };
 }
 
 function evaluate(msg: ToTuneWorker.Eval): FromTuneWorker.Type {

@@ -48,7 +48,9 @@ describe('fluxel run (built bundle)', () => {
     // Not a terminal (a pipe): no progress bar, nothing on stderr.
     expect(r.stderr).toBe('');
     const s = JSON.parse(readFileSync(join(dir, 's.json'), 'utf8')) as Stats;
-    expect(Object.keys(s).sort()).toEqual(['backend', 'best', 'dt', 'dtype', 'frames', 'input', 'params', 'scheme', 'seed', 'sourceHash', 'stepSeconds', 'steps', 'stopReason', 'warnings'].sort());
+    // contracts.md §4's keys, plus the provenance issue 12 adds (inputs, backendChoice, size, output hash and its rule).
+    expect(Object.keys(s).sort()).toEqual(['backend', 'best', 'dt', 'dtype', 'frames', 'input', 'params', 'scheme', 'seed', 'sourceHash', 'stepSeconds', 'steps', 'stopReason', 'warnings',
+      'inputs', 'backendChoice', 'width', 'height', 'outputHash', 'outputHashRule'].sort());
     expect(s.seed, 'the default seed is recorded').toBe(1);
     expect(s.warnings).toEqual([]);
     expect(s.stepSeconds > 0).toBe(true);

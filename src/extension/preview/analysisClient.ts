@@ -47,7 +47,7 @@ export interface AnalysisService {
   weights(req: Omit<ToAnalysis.Weights, 'type' | 'id'>): Promise<WeightsResult>;
   impulse(text: string, knobs: KnobSet, steps: number): Promise<ImpulseResult | null>;
   scene(scene: string, noise: number, seed: number, size: number): Promise<{ noisy: Picture; clean: Picture }>;
-  decode(bytes: Uint8Array): Promise<Picture>;
+  decode(bytes: Uint8Array, range?: { lo: number; hi: number }): Promise<Picture>;
   dispose(): Promise<void>;
 }
 
@@ -98,8 +98,8 @@ export class AnalysisClient implements AnalysisService {
     return { noisy: m.noisy, clean: m.clean };
   }
 
-  async decode(bytes: Uint8Array): Promise<Picture> {
-    const m = await this.request({ type: 'decode', id: this.nextId++, bytes });
+  async decode(bytes: Uint8Array, range?: { lo: number; hi: number }): Promise<Picture> {
+    const m = await this.request({ type: 'decode', id: this.nextId++, bytes, ...(range ? { range } : {}) });
     if (m.type !== 'decode') throw new Error('unexpected answer');
     return m.picture;
   }

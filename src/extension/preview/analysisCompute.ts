@@ -8,6 +8,7 @@ import { analyseStability } from '../../analysis/stability';
 import { extremumPrinciple } from '../../engine/monitorPolicy';
 import { decodeImage } from '../../images/codec';
 import { makeScene } from '../../images/scenes';
+import { makeInput, pictureFromDecoded, type InputPicture } from '../../images/inputs';
 import { parseAndCheck } from '../../notation';
 import type { CheckedScheme } from '../../notation/scheme';
 import type { WireVerdict } from '../../protocol/preview';
@@ -59,12 +60,23 @@ export function computeImpulse(text: string, knobs: KnobSet, steps: number): Imp
   return { steps: r.steps, t: r.t, sigma: [...r.sigma], heatSigma: r.heatSigma, sum: r.sum, truncated: r.truncated };
 }
 
+/** A picture with its channels kept when it is colour (or has alpha). */
+function withChannels(p: InputPicture): Picture {
+  const c = p.channels;
+  const hasAlpha = c.alpha.some((a) => a !== 1);
+  return { width: p.width, height: p.height, data: c.luma, ...(p.colour || hasAlpha ? { channels: { red: c.red, green: c.green, blue: c.blue, alpha: c.alpha } } : {}) };
+}
+
 export function scenePictures(name: string, noise: number, seed: number, size: number): { noisy: Picture; clean: Picture } {
+  if (name === 'palette') {
+    const s = makeInput('palette', { width: size, height: size, noise, seed });
+    return { noisy: withChannels(s.noisy), clean: withChannels(s.clean ?? s.noisy) };
+  }
   const s = makeScene(name, { width: size, height: size, noise, seed });
   return { noisy: s.noisy, clean: s.clean };
 }
 
-export function decodePicture(bytes: Uint8Array): Picture {
-  const c = decodeImage(bytes, {}).channels[0];
-  return { width: c.width, height: c.height, data: c.data };
+/** Decodes with every channel (images/inputs.ts); `range` maps integer samples as --range does. */
+export function decodePicture(bytes: Uint8Array, range?: { lo: number; hi: number }): Picture {
+  return withChannels(pictureFromDecoded(decodeImage(bytes, { channels: 'all', ...(range ? { range } : {}) })));
 }

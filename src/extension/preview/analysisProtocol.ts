@@ -28,8 +28,8 @@ export namespace ToAnalysis {
   export interface Impulse { readonly type: 'impulse'; readonly id: number; readonly text: string; readonly knobs: KnobSet; readonly steps: number }
   /** A generated scene (its noisy input and clean reference). */
   export interface Scene { readonly type: 'scene'; readonly id: number; readonly scene: string; readonly noise: number; readonly seed: number; readonly size: number }
-  /** Decodes an image file's bytes to its first grey channel. */
-  export interface Decode { readonly type: 'decode'; readonly id: number; readonly bytes: Uint8Array }
+  /** Decodes an image file's bytes to its grey (luma) picture, with the colour and alpha channels; `range` as --range. */
+  export interface Decode { readonly type: 'decode'; readonly id: number; readonly bytes: Uint8Array; readonly range?: { readonly lo: number; readonly hi: number } }
   export type Type = Verdict | Weights | Impulse | Scene | Decode;
 }
 
@@ -57,7 +57,17 @@ export interface ImpulseResult {
 export interface Picture {
   readonly width: number;
   readonly height: number;
+  /** The grey picture: BT.709 luma of colour pictures. */
   readonly data: Float32Array;
+  /** Colour pictures (files and the `palette` scene): red, green, blue and alpha; absent for grey ones. */
+  readonly channels?: PictureChannels;
+}
+
+export interface PictureChannels {
+  readonly red: Float32Array;
+  readonly green: Float32Array;
+  readonly blue: Float32Array;
+  readonly alpha: Float32Array;
 }
 
 export namespace FromAnalysis {

@@ -16,7 +16,7 @@ function answer(msg: ToAnalysis.Type): FromAnalysis.Type {
       };
       case 'impulse': return { type: 'impulse', id: msg.id, impulse: computeImpulse(msg.text, msg.knobs, msg.steps) };
       case 'scene': return { type: 'scene', id: msg.id, ...scenePictures(msg.scene, msg.noise, msg.seed, msg.size) };
-      case 'decode': return { type: 'decode', id: msg.id, picture: decodePicture(msg.bytes) };
+      case 'decode': return { type: 'decode', id: msg.id, picture: decodePicture(msg.bytes, msg.range) };
     }
   } catch (err) {
     return { type: 'error', id: (msg as { id: number }).id, message: err instanceof Error ? err.message : String(err) };

@@ -62,6 +62,7 @@ export function webviewOptions(extensionUri: vscode.Uri): vscode.WebviewOptions 
 
 const inputKey = (uri: vscode.Uri) => `fluxel.liveRun.input:${uri.toString()}`;
 const knobsKey = (uri: vscode.Uri) => `fluxel.liveRun.knobs:${uri.toString()}`;
+const namedInputsKey = (uri: vscode.Uri) => `fluxel.liveRun.namedInputs:${uri.toString()}`;
 
 function fileNameOf(uri: vscode.Uri): string {
   return uri.path.split('/').pop() ?? uri.toString();
@@ -120,7 +121,9 @@ export class LiveRunPanel extends Disposable {
       newEngine: () => new EngineWorker(),
       analysis: this.ctx.analysis(),
       settings: () => readLiveRunSettings(this.document),
-      readImage: (uri) => this.readImage(uri),
+      readImage: (uri, range) => this.readImage(uri, range),
+      recallNamedInputs: () => this.ctx.memory.get(namedInputsKey(this.document)),
+      rememberNamedInputs: (choices) => void this.ctx.memory.update(namedInputsKey(this.document), choices),
       recallInput: () => validInput(this.ctx.memory.get(inputKey(this.document))),
       rememberInput: (input: InputChoice) => void this.ctx.memory.update(inputKey(this.document), input),
       recallKnobs: () => this.ctx.memory.get(knobsKey(this.document)),
@@ -142,10 +145,10 @@ export class LiveRunPanel extends Disposable {
     this.session.documentChanged(doc.getText());
   }
 
-  private async readImage(uri: string): Promise<GreyPicture> {
+  private async readImage(uri: string, range?: { lo: number; hi: number }): Promise<GreyPicture> {
     // Read through the workspace file system (remote and virtual folders too); decoded in the analysis thread.
     const bytes = await vscode.workspace.fs.readFile(vscode.Uri.parse(uri, true));
-    return this.ctx.analysis().decode(bytes);
+    return this.ctx.analysis().decode(bytes, range);
   }
 
   /** Writes knob values as one undoable edit, only if the document still holds the text they were computed on. */

@@ -12,7 +12,8 @@ import { canonicalScheme } from '../../engine/plan';
 import { parse, parseAndCheck } from '../../notation';
 import type { SourceRange } from '../../notation/ast';
 import type { CheckedScheme } from '../../notation/scheme';
-import type { FromPreview, InputChoice, KnobSpec, ToPreview, WireRange } from '../../protocol/preview';
+import type { FromPreview, InputChoice, KnobSpec, NamedInputChoice, NamedInputSpec, SampleRange, ToPreview, WireRange } from '../../protocol/preview';
+import { bindInputs, colourFields, InputBindingError, makeMask, namedInputs, pictureFromGrey, type InputPicture } from '../../images/inputs';
 import type { AnalysisService } from './analysisClient';
 import type { KnobSet } from './analysisProtocol';
 import { downsample, frameStride, knobEdits, rowOf, shrinkFactor, type OffsetEdit } from './frames';
@@ -26,8 +27,28 @@ export interface EngineLike {
 export interface GreyPicture {
   readonly width: number;
   readonly height: number;
+  /** The grey picture (BT.709 luma of colour pictures). */
   readonly data: Float32Array;
+  /** Colour pictures: their red, green, blue and alpha channels (`image.red` ...); absent for grey pictures. */
+  readonly channels?: { readonly red: Float32Array; readonly green: Float32Array; readonly blue: Float32Array; readonly alpha: Float32Array };
 }
+
+/** A picture with its channels as images/inputs.ts binds them (grey pictures: the grey value in every colour channel). */
+function inputPicture(p: GreyPicture): InputPicture {
+  if (!p.channels) return pictureFromGrey(p);
+  return { width: p.width, height: p.height, colour: true, channels: { ...p.channels, luma: p.data } };
+}
+
+/** The clean reference in the channel of the picture field (the first field reading the main input). */
+function referenceChannel(scheme: CheckedScheme, ref: GreyPicture): GreyPicture {
+  const f = scheme.fields.find((x) => x.init.kind === 'image' && x.init.input === null);
+  const channel = f && f.init.kind === 'image' ? f.init.channel : null;
+  if (!ref.channels || channel === null || channel === 'luma') return ref;
+  return { width: ref.width, height: ref.height, data: ref.channels[channel] };
+}
+
+/** What a named input runs on until the user chooses: the generated mask (images/inputs.ts makeMask) at the run's size. */
+export const DEFAULT_NAMED_INPUT: NamedInputChoice = { kind: 'mask' };
 
 export interface SessionSettings {
   /** Milliseconds an edit waits for the next one before a run starts (0: run on every change). */
@@ -47,6 +68,8 @@ export interface FitJob {
   readonly source: string;
   readonly image: GreyPicture;
   readonly reference: GreyPicture;
+  /** The picture of each image field (named inputs, channels), when the scheme reads more than the grey picture. */
+  readonly fieldImages?: Readonly<Record<string, GreyPicture>>;
   readonly steps: number;
   readonly metric: 'psnr';
   /** The knobs to fit, each with its declared range and its current value (clamped into the range). */
@@ -70,7 +93,10 @@ export interface SessionEnv {
   newEngine(): EngineLike;
   readonly analysis: AnalysisService;
   settings(): SessionSettings;
-  readImage(uri: string): Promise<GreyPicture>;
+  readImage(uri: string, range?: SampleRange): Promise<GreyPicture>;
+  /** The remembered named-input choices of this document (optional). */
+  recallNamedInputs?(): unknown;
+  rememberNamedInputs?(choices: Readonly<Record<string, NamedInputChoice>>): void;
   /** The remembered input choice of this document, or null. */
   recallInput(): InputChoice | null;
   rememberInput(input: InputChoice): void;
@@ -121,12 +147,30 @@ export const LONG_FIRST_STEP_MS = 250;
 
 export const DEFAULT_INPUT: InputChoice = { kind: 'scene', scene: 'survey', noise: 0.1, seed: 7 };
 
-const SCENE_LABELS: Record<string, string> = { survey: 'survey tile', cells: 'cell slide', card: 'test card' };
+const SCENE_LABELS: Record<string, string> = { survey: 'survey tile', cells: 'cell slide', card: 'test card', palette: 'colour chart' };
 
-export function inputLabel(input: InputChoice): string {
+export function inputLabel(input: InputChoice | NamedInputChoice): string {
   if (input.kind === 'scene') return `${SCENE_LABELS[input.scene]}, noise ${input.noise}, seed ${input.seed}`;
+  if (input.kind === 'mask') return 'generated mask (default)';
   const tail = input.uri.split(/[\\/]/).pop() ?? input.uri;
-  return decodeURIComponent(tail);
+  return decodeURIComponent(tail) + (input.range ? ` (range ${input.range.lo}:${input.range.hi})` : '');
+}
+
+/** Named-input choices as remembered (anything unreadable is dropped). */
+function storedNamed(v: unknown): Record<string, NamedInputChoice> {
+  const out: Record<string, NamedInputChoice> = {};
+  if (typeof v !== 'object' || v === null) return out;
+  for (const [k, c] of Object.entries(v as Record<string, unknown>)) {
+    if (typeof c !== 'object' || c === null) continue;
+    const o = c as Record<string, unknown>;
+    if (o.kind === 'mask') out[k] = { kind: 'mask' };
+    else if (o.kind === 'file' && typeof o.uri === 'string') {
+      const r = o.range as Record<string, unknown> | undefined;
+      const range = r && typeof r.lo === 'number' && typeof r.hi === 'number' && r.hi > r.lo ? { lo: r.lo, hi: r.hi } : undefined;
+      out[k] = { kind: 'file', uri: o.uri, ...(range ? { range } : {}) };
+    }
+  }
+  return out;
 }
 
 export function wireRange(r: SourceRange): WireRange {
@@ -180,6 +224,10 @@ export class PreviewSession {
   /** The input picture (and clean reference for scenes) of the last input used, keyed by inputKey(). */
   private pictures: { key: string; image: GreyPicture; reference: GreyPicture | null } | null = null;
   private fetching: string | null = null;
+  /** Named inputs: the choice per name, and the picture of each name keyed by what made it. */
+  private named: Record<string, NamedInputChoice>;
+  private namedPictures = new Map<string, { key: string; picture: GreyPicture }>();
+  private namedFetching = new Set<string>();
   /** The analysis' decision on the new-extremum monitor, by scheme meaning and knob values (comments do not count). */
   private extremumByKey = new Map<string, boolean>();
   /** The run occupying the current worker (until its `done` settles), and the newest launch waiting for it. */
@@ -195,6 +243,7 @@ export class PreviewSession {
 
   constructor(private readonly env: SessionEnv) {
     this.input = env.recallInput() ?? DEFAULT_INPUT;
+    this.named = storedNamed(env.recallNamedInputs?.());
     this.recalled = storedKnobs(env.recallKnobs?.());
   }
 
@@ -284,6 +333,7 @@ export class PreviewSession {
       type: 'scheme', source: this.env.source, fileName: this.env.fileName, dims: s.dims, fields,
       knobs, dt: { name: 'dt', value: s.dt, lo: s.dtBounds?.lo ?? null, hi: s.dtBounds?.hi ?? null }, steps: s.steps,
       current: this.knobs(), input: this.input, inputLabel: inputLabel(this.input), fit: this.fitState(),
+      namedInputs: this.namedSpecs(s),
     };
     this.env.post(this.schemeMsg);
   }
@@ -310,7 +360,66 @@ export class PreviewSession {
   }
 
   private inputKey(input: InputChoice): string {
-    return input.kind === 'scene' ? `scene/${input.scene}/${input.noise}/${input.seed}/${this.env.settings().sceneSize}` : `file/${input.uri}`;
+    return input.kind === 'scene' ? `scene/${input.scene}/${input.noise}/${input.seed}/${this.env.settings().sceneSize}` : `file/${input.uri}/${input.range ? `${input.range.lo}:${input.range.hi}` : ''}`;
+  }
+
+  private namedSpecs(s: CheckedScheme): NamedInputSpec[] {
+    return namedInputs(s).map((name) => {
+      const choice = this.named[name] ?? DEFAULT_NAMED_INPUT;
+      return { name, choice, label: inputLabel(choice) };
+    });
+  }
+
+  private namedKey(choice: NamedInputChoice, width: number, height: number): string {
+    return choice.kind === 'mask' ? `mask/${width}x${height}` : `file/${choice.uri}/${choice.range ? `${choice.range.lo}:${choice.range.hi}` : ''}`;
+  }
+
+  /**
+   * The pictures of the named inputs for a run of this size, or null while some are still being read (the run
+   * starts again when they arrive). The generated mask is made here (a cheap loop); files are decoded off the host thread.
+   */
+  private namedInputPictures(s: CheckedScheme, width: number, height: number): Map<string, InputPicture> | null {
+    const out = new Map<string, InputPicture>();
+    let ready = true;
+    for (const name of namedInputs(s)) {
+      const choice = this.named[name] ?? DEFAULT_NAMED_INPUT;
+      const key = this.namedKey(choice, width, height);
+      const have = this.namedPictures.get(name);
+      if (have?.key === key) {
+        out.set(name, inputPicture(have.picture));
+        continue;
+      }
+      if (choice.kind === 'mask') {
+        const picture = makeMask(width, height);
+        this.namedPictures.set(name, { key, picture });
+        out.set(name, inputPicture(picture));
+        continue;
+      }
+      ready = false;
+      const fetchKey = `${name}|${key}`;
+      if (this.namedFetching.has(fetchKey)) continue;
+      this.namedFetching.add(fetchKey);
+      this.env.readImage(choice.uri, choice.range).then(
+        (picture) => {
+          this.namedFetching.delete(fetchKey);
+          this.namedPictures.set(name, { key, picture });
+          if (!this.disposed) this.startRun();
+        },
+        (err: unknown) => {
+          this.namedFetching.delete(fetchKey);
+          this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `Cannot read ${inputLabel(choice)} for the input "${name}": ${err instanceof Error ? err.message : String(err)}; back to the generated mask.` });
+          this.setNamedInput(name, DEFAULT_NAMED_INPUT);
+        },
+      );
+    }
+    return ready ? out : null;
+  }
+
+  setNamedInput(name: string, choice: NamedInputChoice): void {
+    this.named = { ...this.named, [name]: choice };
+    this.env.rememberNamedInputs?.(this.named);
+    this.postScheme();
+    this.startRun();
   }
 
   /** Makes the scene or reads the file off the host thread (the analysis thread), then runs if nothing newer started. */
@@ -321,7 +430,7 @@ export class PreviewSession {
     const size = this.env.settings().sceneSize;
     const got = input.kind === 'scene'
       ? this.env.analysis.scene(input.scene, input.noise, input.seed, size).then((s) => ({ image: s.noisy as GreyPicture, reference: s.clean as GreyPicture | null }))
-      : this.env.readImage(input.uri).then((image) => ({ image, reference: null }));
+      : this.env.readImage(input.uri, input.range).then((image) => ({ image, reference: null }));
     got.then(
       (p) => {
         if (this.fetching === key) this.fetching = null;
@@ -379,8 +488,23 @@ export class PreviewSession {
       this.fetchInput(input);
       return;
     }
+    const readsMain = s.fields.some((f) => f.init.kind === 'image' && f.init.input === null);
     const image = needsImage && this.pictures ? this.pictures.image : null;
-    const reference = needsImage && this.pictures ? this.pictures.reference : null;
+    const reference = needsImage && this.pictures?.reference ? referenceChannel(s, this.pictures.reference) : null;
+    // Named inputs and channels: every image field gets its own picture (images/inputs.ts bindInputs).
+    let fieldImages: Record<string, GreyPicture> | null = null;
+    if (needsImage && image) {
+      const named = this.namedInputPictures(s, image.width, image.height);
+      if (!named) return;
+      try {
+        fieldImages = bindInputs(s, { main: readsMain ? inputPicture(image) : null, named });
+      } catch (err) {
+        if (!(err instanceof InputBindingError)) throw err;
+        const where = err.range ? `line ${err.range.start.line}: ` : '';
+        this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `${where}${err.message}` });
+        return;
+      }
+    }
     const size = this.env.settings().sceneSize;
     const width = s.dims === 1 ? (image?.width ?? size) : image?.width ?? size;
     const height = s.dims === 1 ? 1 : image?.height ?? size;
@@ -403,7 +527,7 @@ export class PreviewSession {
     const monitorKey = `${canonicalScheme(s)}|${JSON.stringify(knobs)}`;
     const known = this.extremumByKey.get(monitorKey);
     const options: WorkerRunOptions = {
-      ...(needsImage && image ? { image } : { width, height }),
+      ...(needsImage && image ? { image, ...(fieldImages ? { fieldImages } : {}) } : { width, height }),
       ...(needsImage && reference ? { reference } : {}),
       params: knobs.values, dt: knobs.dt, every,
       monitors: { extremumCheck: known ?? 'auto' },
@@ -499,10 +623,19 @@ export class PreviewSession {
     // At full size the stored Float32 snapshot is posted as it is (posting copies it); otherwise it is averaged down.
     const small = run.shrink === 1 && snap.data instanceof Float32Array ? { width: snap.width, height: snap.height, data: snap.data } : downsample(snap, run.shrink);
     const st = frame.stats.fields[name] ?? { min: NaN, max: NaN, mean: NaN };
+    // A colour scheme (image.red, .green, .blue) also sends the three fields, shrunk alike, for the colour view.
+    const cf = colourFields(run.scheme);
+    const shrunk = (n: string): Float32Array | null => {
+      const f = frame.fields[n];
+      if (!f) return null;
+      return run.shrink === 1 && f.data instanceof Float32Array ? f.data : downsample(f, run.shrink).data;
+    };
+    const rgb = cf ? [shrunk(cf.red), shrunk(cf.green), shrunk(cf.blue)] : null;
     this.env.post({
       type: 'frame', source: this.env.source, runId: run.runId, field: name, step: frame.step, t: frame.t,
       width: small.width, height: small.height, data: small.data, stats: { min: st.min, max: st.max, mean: st.mean },
       psnr: typeof frame.stats.psnr === 'number' && name === run.started.field ? frame.stats.psnr : null,
+      ...(rgb && rgb[0] && rgb[1] && rgb[2] ? { colour: { red: rgb[0], green: rgb[1], blue: rgb[2] } } : {}),
     });
   }
 
@@ -558,7 +691,14 @@ export class PreviewSession {
         ? { image: this.pictures.image, reference: this.pictures.reference }
         : await this.env.analysis.scene(input.scene, input.noise, input.seed, size).then((p) => ({ image: p.noisy as GreyPicture, reference: p.clean as GreyPicture }));
       if (abort.signal.aborted) throw new Error('cancelled');
-      const job: FitJob = { source, image: pictures.image, reference: pictures.reference, steps, metric: 'psnr', free, backend: this.env.settings().backend ?? 'auto' };
+      // Named inputs and channels, bound as for a run; a named file still being read makes the fit wait for nothing: it fails with a note.
+      const named = this.namedInputPictures(s, pictures.image.width, pictures.image.height);
+      if (!named) throw new Error('a named input is still being read; try again in a moment');
+      const fieldImages = bindInputs(s, { main: inputPicture(pictures.image), named });
+      const job: FitJob = {
+        source, image: pictures.image, reference: referenceChannel(s, pictures.reference), fieldImages, steps, metric: 'psnr', free,
+        backend: this.env.settings().backend ?? 'auto',
+      };
       const r = await fit(job, abort.signal, (n) => {
         evaluations = n;
         if (this.fitting === me) this.env.post({ ...base, status: 'running', evaluations: n, message: null });
@@ -646,6 +786,15 @@ export class PreviewSession {
       case 'chooseImage': {
         const uri = await this.env.pickImage?.();
         if (uri) this.setInput({ kind: 'file', uri });
+        return;
+      }
+      case 'setNamedInput':
+        if (this.good && namedInputs(this.good.scheme).includes(msg.name)) this.setNamedInput(msg.name, msg.input);
+        return;
+      case 'chooseNamedImage': {
+        if (!this.good || !namedInputs(this.good.scheme).includes(msg.name)) return;
+        const uri = await this.env.pickImage?.();
+        if (uri) this.setNamedInput(msg.name, { kind: 'file', uri });
         return;
       }
       case 'showField': {

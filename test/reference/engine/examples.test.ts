@@ -7,6 +7,7 @@ import { describe, expect, it } from 'vitest';
 import { analyseStability } from '../../../src/analysis/stability';
 import { createRun, type RunImage } from '../../../src/engine';
 import { makeScene } from '../../../src/images/scenes';
+import { makeMask } from '../../../src/images/inputs';
 import { schemeOf } from '../../unit/engine/util';
 
 const EXAMPLES = join(__dirname, '..', '..', '..', 'examples');
@@ -30,6 +31,10 @@ const TABLE: Record<string, { extremum: boolean; scene: 'survey' | 'cells' | 'ca
   'tv-flow.fluxel': { extremum: true, scene: 'survey' },
   'upwind-transport.fluxel': { extremum: true, scene: 'card' },
   'wave.fluxel': { extremum: false, scene: 'survey' },
+  // Heat flow with a rate in [0, 1] per pixel (the mask's complement) keeps non-negative weights summing to 1
+  // (Weickert 1998, ch. 3, as above, with a space-dependent diffusivity); the colour example is Perona–Malik per channel.
+  'masked-smoothing.fluxel': { extremum: true, scene: 'survey' },
+  'colour-edge-preserving.fluxel': { extremum: true, scene: 'cells' },
 };
 
 describe('bundled examples', () => {
@@ -46,7 +51,9 @@ describe('bundled examples', () => {
       const scene = makeScene(expected.scene, { width: SIZE, height: SIZE, noise: 0.01, seed: 7 });
       const image: RunImage | null = needsImage ? scene.noisy : null;
       const report = analyseStability(scheme);
-      const base = { image, width: SIZE, height: SIZE, monitors: { extremumCheck: 'auto' as const, stability: report } };
+      // Named inputs (the mask) get the generated mask; the channels of a grey scene are the grey picture.
+      const fieldImages = Object.fromEntries(scheme.fields.filter(f => f.init.kind === 'image' && f.init.input !== null).map(f => [f.name, makeMask(SIZE, SIZE)]));
+      const base = { image, fieldImages, width: SIZE, height: SIZE, monitors: { extremumCheck: 'auto' as const, stability: report } };
 
       const calm = createRun(scheme, base);
       expect(calm.extremumDecision.applies, `extremum monitor on/off: ${calm.extremumDecision.reason}`).toBe(expected.extremum);

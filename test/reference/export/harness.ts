@@ -8,6 +8,7 @@ import { pathToFileURL } from 'node:url';
 import { createRun } from '../../../src/engine/run';
 import { exportScheme, schemePrefix } from '../../../src/export';
 import { makeScene } from '../../../src/images/scenes';
+import { makeMask } from '../../../src/images/inputs';
 import { parseAndCheck } from '../../../src/notation/index';
 import type { CheckedScheme } from '../../../src/notation/scheme';
 
@@ -50,7 +51,12 @@ export function caseOf(file: string, text: string, dtype: DType, maxSteps = Infi
     height = 1;
   }
   const steps = Math.min(maxSteps, SHORT_HORIZON.has(file) ? Math.min(20, scheme.steps) : scheme.steps);
-  return { file, text, scheme, width, height, steps, dtype, inputs: scheme.fields.map(f => (f.init.kind === 'image' ? img : null)) };
+  // Named inputs (a mask) get the generated mask; the channels of a grey scene are all the grey picture, alpha 1.
+  let mask = Float64Array.from(makeMask(width, scene.noisy.height).data);
+  if (scheme.dims === 1) mask = mask.slice(Math.floor(scene.noisy.height / 2) * width, (Math.floor(scene.noisy.height / 2) + 1) * width);
+  const ones = new Float64Array(img.length).fill(1);
+  const inputs = scheme.fields.map(f => (f.init.kind !== 'image' ? null : f.init.input !== null ? mask : f.init.channel === 'alpha' ? ones : img));
+  return { file, text, scheme, width, height, steps, dtype, inputs };
 }
 
 export function exportOf(c: Case, target: 'c' | 'numpy' | 'dask' | 'js'): string {
@@ -58,9 +64,13 @@ export function exportOf(c: Case, target: 'c' | 'numpy' | 'dask' | 'js'): string
 }
 
 export function engineResult(c: Case): FieldValues {
-  const image = c.inputs.find(x => x !== null);
+  const fieldImages: Record<string, { width: number; height: number; data: Float64Array }> = {};
+  c.scheme.fields.forEach((f, k) => {
+    const v = c.inputs[k];
+    if (v) fieldImages[f.name] = { width: c.width, height: c.height, data: v };
+  });
   const run = createRun(c.scheme, {
-    image: image ? { width: c.width, height: c.height, data: image } : null,
+    fieldImages,
     width: c.width, height: c.height, steps: c.steps, dtype: c.dtype,
   });
   run.runSync();

@@ -2,6 +2,7 @@
 // the per-scheme fallback and its reason, odd widths, 1d rows and lets on the extended grid.
 // Float32 differences come from Float32 lane arithmetic (JavaScript computes in Float64 and rounds when storing)
 // and a polynomial exp; Float64 kernels do the same operations in the same order, so they agree to rounding.
+import { makeMask } from '../../../src/images/inputs';
 import { readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -21,7 +22,9 @@ const SHORT = new Set(['gray-scott', 'wave']);
 function both(text: string, opts: { width: number; height: number; steps?: number; dtype: DType; image?: boolean }) {
   const s = schemeOf(text);
   const image = opts.image ? randomImage(opts.width, opts.height, 7) : null;
-  const common = { image, width: opts.width, height: opts.height, steps: opts.steps, dtype: opts.dtype };
+  // Named inputs (a mask) get the generated mask.
+  const fieldImages = Object.fromEntries(s.fields.filter(f => f.init.kind === 'image' && f.init.input !== null).map(f => [f.name, makeMask(opts.width, opts.height)]));
+  const common = { image, fieldImages, width: opts.width, height: opts.height, steps: opts.steps, dtype: opts.dtype };
   const a = createRun(s, { ...common, backend: js });
   const b = createRun(s, { ...common, backend: wasm });
   const ra = a.runSync(), rb = b.runSync();

@@ -107,3 +107,14 @@ describe('name fixes', () => {
     expect(analyse(t).diagnostics.filter((d) => d.severity !== 'info')).toEqual([]);
   });
 });
+
+describe('channel fix', () => {
+  it('replaces a misspelt channel by the suggestion, and the fixed text checks clean', () => {
+    const text = 'grid 2d\nstep dt = 0.1\nsteps 3\nfield r = image.gren\nr\' = r';
+    const fixes = fixesOf(text, 'image-channel');
+    expect(fixes.map((f) => [f.title, f.preferred])).toEqual([['Replace `.gren` by `.green`', true]]);
+    const fixed = applyEdits(text, fixes[0].edits);
+    expect(fixed.split('\n')[3]).toBe('field r = image.green');
+    expect(analyse(fixed).diagnostics.filter((d) => d.severity === 'error')).toEqual([]);
+  });
+});

@@ -64,6 +64,13 @@ describe('grammar', () => {
     const update = new RegExp(grammar.repository.update.match).exec("u' = u");
     expect(update?.[1]).toBe('u');
   });
+
+  it('scopes the input name and the channel of `image "NAME".CHANNEL`', () => {
+    const p = patterns.find((x) => x.match?.startsWith('\\b(image)\\b'))!;
+    const m = new RegExp(p.match!).exec('field g = image "guide".luma');
+    expect([m?.[1], m?.[2], m?.[4]]).toEqual(['image', '"guide"', 'luma']);
+    expect(new RegExp(p.match!).exec('field u = image')?.[0]).toBe('image');
+  });
 });
 
 describe('manifest', () => {

@@ -84,4 +84,8 @@ export const CASES: [string, string, string[]][] = [
   ['unused set', PRE + "neighbours e = {[1, 0]}\nu' = u", ['unused-set 5:12-5:13']],
   ['lexer error', PRE + "u' = u @ 2", ['lex-error 5:8-5:9', 'syntax-error 5:10-5:11']],
   ['syntax error', PRE + "u' = u + )", ['syntax-error 5:10-5:11']],
+  ['unknown image channel (suggestion)', PRE + "field r = image.reed\nu' = u + r", ['image-channel 5:17-5:21']],
+  ['unknown channel of a named input', PRE + "field g = image \"guide\".hue\nu' = u * g", ['image-channel 5:25-5:28']],
+  ['input name with a space', PRE + "field m = image \"my mask\"\nu' = u * m", ['image-input-name 5:17-5:26']],
+  ['empty input name', PRE + "field m = image \"\"\nu' = u * m", ['image-input-name 5:17-5:19']],
 ];

@@ -91,6 +91,21 @@ describe('declarations', () => {
     ]);
   });
 
+  it('reads named inputs and channels: `image "mask"`, `image.red`, `image "guide".luma`, with exact ranges', () => {
+    const r = parse('field m = image "mask"\nfield r = image.red\nfield g = image "guide".luma\nfield s = image . blue');
+    expect(r.diagnostics).toEqual([]);
+    expect(r.program.decls.map(printDecl)).toEqual(['field m image "mask"', 'field r image.red', 'field g image "guide".luma', 'field s image.blue']);
+    const g = r.program.decls[2];
+    if (g.kind !== 'field' || g.init?.kind !== 'image') throw new Error('expected an image field');
+    // The input's range covers the quotes; the whole initialiser runs from `image` to the channel.
+    expect([g.init.input?.range.start.column, g.init.input?.range.end.column]).toEqual([17, 24]);
+    expect([g.init.channel?.range.start.column, g.init.channel?.range.end.column]).toEqual([25, 29]);
+    expect([g.init.range.start.column, g.init.range.end.column, g.range.end.column]).toEqual([11, 29, 29]);
+    // `.5` is still a number, and a string cannot span lines.
+    expect(parse('field v = .5').diagnostics).toEqual([]);
+    expect(parse('field m = image "ma\nsk"').diagnostics.map(d => d.code)).toContain('lex-error');
+  });
+
   it('accepts `neighbors` as an alias and step ranges', () => {
     const r = parse('neighbors d = {[1]}\nstep dt = 0.1 in [0.01, 0.5]');
     expect(r.diagnostics).toEqual([]);

@@ -29,7 +29,7 @@ export function printDecl(d: A.Decl): string {
     case 'steps': return `steps ${d.count.value}`;
     case 'until': return `until ${d.variable.name} ${d.time.value}`;
     case 'untilChange': return `until ${d.variable.name} < ${d.tolerance.value}`;
-    case 'field': return `field ${d.name.name} ${d.init ? (d.init.kind === 'image' ? 'image' : printExpr(d.init.expr)) : '<none>'}`;
+    case 'field': return `field ${d.name.name} ${d.init ? (d.init.kind === 'image' ? `image${d.init.input ? ` "${d.init.input.name}"` : ''}${d.init.channel ? `.${d.init.channel.name}` : ''}` : printExpr(d.init.expr)) : '<none>'}`;
     case 'function': return `${d.diffusivity ? 'diffusivity' : 'fn'} ${d.name.name}(${d.params.map((p) => p.name).join(',')}) ${printExpr(d.body)}`;
     case 'let': return `let ${d.name.name} ${printExpr(d.expr)}`;
     case 'neighbours': return `neighbours ${d.name.name} {${d.offsets.map((o) => `[${o.components.map(printExpr).join(',')}]`).join(' ')}}`;

@@ -12,6 +12,7 @@ import type { AnalysisService } from '../../../src/extension/preview/analysisCli
 import { PreviewSession, type EngineLike, type FitJob, type FitOutcome, type SessionEnv } from '../../../src/extension/preview/session';
 import type { BackendChoice } from '../../../src/engine/wasm/select';
 import type { InputChoice, ToPreview } from '../../../src/protocol/preview';
+import { makeMask } from '../../../src/images/inputs';
 
 const SCHEME = [
   'grid 2d',
@@ -63,7 +64,7 @@ function stats(step: number): FrameStats {
   return { step, t: step * 0.2, fields: { u: { min: 0, max: 1, mean: 0.5 } }, psnr: 20 + step };
 }
 
-function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown; backend?: BackendChoice; fit?: SessionEnv['fit']; accept?: boolean } = {}) {
+function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown; backend?: BackendChoice; fit?: SessionEnv['fit']; accept?: boolean; readImage?: SessionEnv['readImage']; named?: unknown } = {}) {
   const posted: ToPreview.Type[] = [];
   const runs: FakeRun[] = [];
   const engines: FakeEngine[] = [];
@@ -86,6 +87,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
   const revealed: unknown[] = [];
   const remembered: InputChoice[] = [];
   const rememberedKnobs: unknown[] = [];
+  const rememberedNamed: unknown[] = [];
   const offers: string[] = [];
   const env: SessionEnv = {
     source: 'file:///w/a.fluxel',
@@ -98,7 +100,9 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
     },
     analysis,
     settings: () => ({ debounceMs: opts.debounceMs ?? 0, maxPreviewSize: 16, sceneSize: 32, ...(opts.backend ? { backend: opts.backend } : {}) }),
-    readImage: async () => ({ width: 8, height: 4, data: new Float32Array(32).fill(0.25) }),
+    readImage: opts.readImage ?? (async () => ({ width: 8, height: 4, data: new Float32Array(32).fill(0.25) })),
+    recallNamedInputs: () => opts.named,
+    rememberNamedInputs: (c) => rememberedNamed.push(c),
     recallInput: () => opts.input ?? null,
     rememberInput: (i) => remembered.push(i),
     recallKnobs: () => opts.knobs,
@@ -110,7 +114,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
   };
   const session = new PreviewSession(env);
   const of = <T extends ToPreview.Type['type']>(type: T) => posted.filter((m): m is Extract<ToPreview.Type, { type: T }> => m.type === type);
-  return { session, posted, runs, engines, weightsCalls, edits, revealed, remembered, rememberedKnobs, offers, of };
+  return { session, posted, runs, engines, weightsCalls, edits, revealed, remembered, rememberedKnobs, rememberedNamed, offers, of };
 }
 
 /** Lets pending promise callbacks run (no timers involved). */
@@ -491,5 +495,63 @@ describe('knob fit in the live run', () => {
     await settle();
     await session.handle({ type: 'fitKnobs', source: 'file:///w/a.fluxel' });
     expect(of('fit').at(-1)).toMatchObject({ status: 'failed', message: 'the pool broke' });
+  });
+});
+
+const MASKED = SCHEME.replace("field u = image\n", 'field u = image\nfield m = image "mask"\n').replace("u' = u + dt * K * sum n in N4: u[n] - u", "u' = u + dt * K * (1 - m) * sum n in N4: u[n] - u");
+
+describe('named inputs and channels in the live run', () => {
+  it('offers a chooser per named input, starting with the generated mask at the run size', async () => {
+    const { session, runs, of } = setup();
+    session.documentChanged(MASKED);
+    await settle();
+    expect(of('scheme')[0].namedInputs).toEqual([{ name: 'mask', choice: { kind: 'mask' }, label: 'generated mask (default)' }]);
+    const fi = runs[0].options.fieldImages as unknown as Record<string, { width: number; height: number; data: Float32Array }>;
+    expect(Object.keys(fi).sort()).toEqual(['m', 'u']);
+    expect([fi.m.width, fi.m.height]).toEqual([32, 32]);
+    expect(Array.from(fi.m.data)).toEqual(Array.from(makeMask(32, 32).data));
+    expect(fi.u.data[0]).toBe(0.5);
+  });
+
+  it('a chosen file of another size stops the run with the field line and both sizes; the choice is remembered', async () => {
+    const { session, runs, of, rememberedNamed } = setup();
+    session.documentChanged(MASKED);
+    await settle();
+    await session.handle({ type: 'chooseNamedImage', source: 'file:///w/a.fluxel', name: 'mask' });
+    await settle();
+    expect(rememberedNamed.at(-1)).toEqual({ mask: { kind: 'file', uri: 'file:///w/pic.png' } });
+    expect(of('scheme').at(-1)?.namedInputs?.[0]).toEqual({ name: 'mask', choice: { kind: 'file', uri: 'file:///w/pic.png' }, label: 'pic.png' });
+    expect(runs.length).toBe(1);
+    expect(of('notice').at(-1)?.text).toBe('line 7: `field m = image "mask"`: the input "mask" is 8×4 pixels but the main input is 32×32; all inputs of a run must have one size.');
+    await session.handle({ type: 'setNamedInput', source: 'file:///w/a.fluxel', name: 'mask', input: { kind: 'mask' } });
+    await settle();
+    expect(runs.length).toBe(2);
+  });
+
+  it('reads an image file with the sample range chosen in the panel, and says the range in the label', async () => {
+    const calls: unknown[] = [];
+    const { session, of } = setup({ readImage: async (uri, range) => { calls.push([uri, range]); return { width: 8, height: 4, data: new Float32Array(32) }; } });
+    session.documentChanged(SCHEME);
+    await settle();
+    session.setInput({ kind: 'file', uri: 'file:///w/twelve.png', range: { lo: 0, hi: 4095 } });
+    await settle();
+    expect(calls.at(-1)).toEqual(['file:///w/twelve.png', { lo: 0, hi: 4095 }]);
+    expect(of('scheme').at(-1)?.inputLabel).toBe('twelve.png (range 0:4095)');
+  });
+
+  it('binds the channels of a colour file to image.red, .green and .blue', async () => {
+    const red = Float32Array.of(1, 0), green = Float32Array.of(0, 1), blue = Float32Array.of(0.5, 0.5), alpha = Float32Array.of(1, 1);
+    const { session, runs, of } = setup({
+      input: { kind: 'file', uri: 'file:///w/c.png' },
+      readImage: async () => ({ width: 2, height: 1, data: Float32Array.of(0.25, 0.75), channels: { red, green, blue, alpha } }),
+    });
+    session.documentChanged(SCHEME.replace('field u = image\n', 'field u = image.red\nfield g = image.green\nfield b = image.blue\n').replace("u' = u + dt", "u' = u + 0 * (g + b) + dt"));
+    await settle();
+    const fi = runs[0].options.fieldImages as unknown as Record<string, { data: Float32Array }>;
+    expect([fi.u.data, fi.g.data, fi.b.data]).toEqual([red, green, blue]);
+    // Frames of a colour scheme carry the three fields for the colour view.
+    runs[0].cb.onFrame?.(stats(0), { u: snapshot(2, 1, () => 1), g: snapshot(2, 1, () => 0), b: snapshot(2, 1, () => 0.5) });
+    const frame = of('frame')[0];
+    expect(frame.colour).toEqual({ red: Float32Array.of(1, 1), green: Float32Array.of(0, 0), blue: Float32Array.of(0.5, 0.5) });
   });
 });

@@ -5,7 +5,7 @@ import { describe, expect, it } from 'vitest';
 import type { ToPreview, WireVerdict } from '../../../src/protocol/preview';
 import { divergingTable } from '../../../media/preview/colour';
 import {
-  changeScale, findingText, fitText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint, panBy,
+  changeScale, findingText, fitText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint, paintRgb, panBy,
   seriesOf, seriesSummary, sliderFromValue, SLIDER_STEPS, spaceTimeRepeat, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt,
 } from '../../../media/preview/viewModel';
 
@@ -219,5 +219,13 @@ describe('keys', () => {
     expect(keyAction(' ')).toEqual({ kind: 'play' });
     expect(keyAction('ArrowLeft')).toEqual({ kind: 'step', by: -1 });
     expect(keyAction('q')).toBeNull();
+  });
+});
+
+describe('paintRgb (the colour view of schemes binding image.red, .green, .blue)', () => {
+  it('clamps to [0, 1], rounds to bytes, and marks non-finite pixels', () => {
+    const out = new Uint8ClampedArray(12);
+    paintRgb(out, Float32Array.of(1, -0.5, NaN), Float32Array.of(0.5, 2, 0), Float32Array.of(0, 0.25, 0));
+    expect(Array.from(out)).toEqual([255, 128, 0, 255, 0, 255, 64, 255, 255, 0, 255, 255]);
   });
 });
