@@ -10,6 +10,8 @@ import type { CheckedScheme } from '../notation/scheme';
 import { fillGhosts, makeGeometry, planGhosts, readInterior, writeInterior, type GhostPlan } from './boundary';
 import { blurInto, gaussianTaps } from './blur';
 import { defaultBackend } from './wasm/select';
+import { jsBackend } from './jsBackend';
+import { Tangents } from './sensitivity';
 import { extremumPrinciple, type ExtremumDecision } from './monitorPolicy';
 import { EngineError, planHalo, type HaloPlan } from './plan';
 import type {
@@ -58,6 +60,12 @@ export interface RunOptions {
   readonly reference?: RunImage | null;
   readonly ssim?: boolean;
   readonly backend?: KernelBackend;
+  /**
+   * Sensitivity mode: forward-mode derivatives of every field with respect to these names (declared params and/or
+   * `dt`), carried through every step (sensitivity.ts). Runs on the JavaScript dual kernels whatever `backend` says;
+   * the result's backend is then `js-tangents`.
+   */
+  readonly sensitivity?: readonly string[];
 }
 
 export interface Frame {
@@ -145,12 +153,16 @@ export class Run {
   private readonly growthBound: number;
   private readonly warned = new Set<string>();
   private best: { step: number; psnr: number } | undefined;
+  /** The tangents of sensitivity mode (null otherwise). */
+  readonly tangents: Tangents | null;
 
   constructor(scheme: CheckedScheme, opts: RunOptions = {}) {
     this.scheme = scheme;
     this.dtype = opts.dtype ?? 'float32';
     // Without a choice: the SIMD kernels where the scheme allows (wasm/select.ts), else the JavaScript ones.
-    const backend = opts.backend ?? defaultBackend();
+    const wrt = opts.sensitivity ?? null;
+    // The SIMD kernels carry no tangents: sensitivity mode runs on the JavaScript dual kernels.
+    const backend = wrt ? jsBackend : opts.backend ?? defaultBackend();
     this.compiled = backend.compile(scheme, { dtype: this.dtype });
 
     // Parameters: declared values, then overrides; passed to kernels as a vector so sliders never recompile.
@@ -214,6 +226,8 @@ export class Run {
       // A fixed halo is written once; kernels never write ghost cells, so it survives every swap.
       if (next[k] !== cur[k]) fillGhosts(next[k], g, this.ghosts[k]);
     });
+    this.tangents = wrt ? new Tangents(scheme, wrt, g, this.halo, this.dtype, this.ghosts) : null;
+    this.tangents?.init(this.ctx, this.ghosts);
 
     // Monitor set-up from the initial state.
     let lo = Infinity, hi = -Infinity, maxAbs = 0;
@@ -260,8 +274,26 @@ export class Run {
   step(): boolean {
     if (this.status !== 'running') return false;
     const t0 = nowSeconds();
-    const { ctx, geometry: g, scheme } = this;
+    const { ctx, geometry: g } = this;
     ctx.t = this.stepIndex * this.dt;
+    if (this.tangents) this.tangents.step(ctx, this.stepIndex, this.scratch);
+    else this.computeLetsAndUpdate();
+    for (const k of this.updated) {
+      const tmp = ctx.cur[k];
+      ctx.cur[k] = ctx.next[k];
+      ctx.next[k] = tmp;
+      fillGhosts(ctx.cur[k], g, this.ghosts[k]);
+      this.tangents?.swap(k);
+    }
+    this.stepIndex++;
+    this.checkMonitors();
+    this.stepSeconds += nowSeconds() - t0;
+    return this.status === 'running';
+  }
+
+  /** The plain kernels of one step: lets (blurs included), then the fused updates. */
+  private computeLetsAndUpdate(): void {
+    const { ctx, geometry: g, scheme } = this;
     for (let k = 0; k < scheme.lets.length; k++) {
       const l = scheme.lets[k];
       const taps = this.blurTaps[k];
@@ -273,16 +305,6 @@ export class Run {
       } else this.compiled.computeLet(k, g, ctx, this.halo.letExtents[k]);
     }
     this.compiled.update(g, ctx);
-    for (const k of this.updated) {
-      const tmp = ctx.cur[k];
-      ctx.cur[k] = ctx.next[k];
-      ctx.next[k] = tmp;
-      fillGhosts(ctx.cur[k], g, this.ghosts[k]);
-    }
-    this.stepIndex++;
-    this.checkMonitors();
-    this.stepSeconds += nowSeconds() - t0;
-    return this.status === 'running';
   }
 
   /** One step with its callbacks (warnings, progress, frame capture); false when cancelled before stepping. */
@@ -333,7 +355,7 @@ export class Run {
       dt: this.dt,
       params: this.params,
       dtype: this.dtype,
-      backend: this.compiled.backend,
+      backend: this.tangents ? 'js-tangents' : this.compiled.backend,
       stepSeconds: this.stepSeconds,
       frames: this.frames,
       warnings: this.warnings,
@@ -353,6 +375,14 @@ export class Run {
     const g = this.geometry;
     const out = this.dtype === 'float32' ? new Float32Array(g.width * g.height) : new Float64Array(g.width * g.height);
     return readInterior(out, this.ctx.cur[k], g);
+  }
+
+  /** Sensitivity mode: d(field)/d(name) at the current step, interior only, row-major (Float64). */
+  sensitivityData(field: number, name: string): Float64Array {
+    if (!this.tangents) throw new EngineError('this run carries no sensitivities');
+    const j = this.tangents.wrt.indexOf(name);
+    if (j < 0) throw new EngineError(`this run carries no sensitivity with respect to '${name}'`);
+    return this.tangents.data(field, j);
   }
 
   /** The padded buffers themselves (read-only use: tests and the kernel-weights view). */
