@@ -16,12 +16,15 @@ import { BACKEND_CHOICES, backendByName, type BackendChoice } from '../engine/wa
 import { guard, parseCommandLine, UsageError, numberArg, rangeArg, sizeArg, wholeArg } from './args';
 import { formatDiagnostic } from './check';
 import { bestStepTracker, pictureField } from '../tune/evaluate';
+import { parseSensitivity, writeSensitivities } from './sensitivity';
 
 const USAGE = [
   'usage: fluxel run FILE [--input PATH [--range LO:HI] | --scene NAME [--noise SIGMA] [--seed N]] [--size WxH]',
   '                  [--set NAME=VALUE ...] [--steps N] [--float64] [--field NAME] [--extremum-check] [--backend js|wasm|auto]',
-  '                  --output PATH [--frames DIR --every K] [--stats PATH [--metric psnr|ssim]]',
+  '                  --output PATH [--frames DIR --every K] [--stats PATH [--metric psnr|ssim]] [--sensitivity NAME[,NAME...]]',
   '  --set also accepts dt=VALUE; without --input or --scene, image fields use the survey scene.',
+  '  --sensitivity K,dt writes d(output)/d(NAME) beside the output as OUTPUT-STEM.d-NAME.pfm, and with --stats the',
+  '  derivatives of MSE, PSNR and SSIM against the clean scene (forward-mode derivatives on the JavaScript kernels).',
   '  With a scene, --stats gets `best`: the step (any step, not only recorded frames) maximising --metric (default psnr).',
 ].join('\n');
 
@@ -43,6 +46,7 @@ const OPTIONS = {
   every: { type: 'string' },
   stats: { type: 'string' },
   metric: { type: 'string' },
+  sensitivity: { type: 'string' },
   help: { type: 'boolean', short: 'h' },
 } as const;
 
@@ -113,6 +117,7 @@ export function runMain(argv: string[]): Promise<number> {
     if (dt !== undefined && scheme.dtBounds && (dt < scheme.dtBounds.lo || dt > scheme.dtBounds.hi)) {
       process.stderr.write(`fluxel run: note: --set dt=${dt} lies outside its declared range [${scheme.dtBounds.lo}, ${scheme.dtBounds.hi}].\n`);
     }
+    const sensitivity = o.sensitivity === undefined ? null : parseSensitivity(o.sensitivity, scheme, USAGE);
     if (o.field !== undefined && !scheme.fields.some(f => f.name === o.field)) {
       throw new UsageError(`--field ${o.field}: the scheme has no field '${o.field}'.`);
     }
@@ -161,6 +166,8 @@ export function runMain(argv: string[]): Promise<number> {
         ssim: reference !== null,
         // The analysis decides whether the new-extremum monitor applies (numerics.md, "Monitors"); the flag forces it.
         monitors: { extremumCheck: o['extremum-check'] ? true : 'auto' },
+        // Sensitivity mode runs the JavaScript dual kernels (the SIMD ones carry no tangents); stats.backend says so.
+        ...(sensitivity ? { sensitivity } : {}),
       });
     } catch (err) {
       if (err instanceof EngineError) {
@@ -214,8 +221,12 @@ export function runMain(argv: string[]): Promise<number> {
       },
     });
     bar?.stop();
-    if (backendChoice === 'wasm' && result.backend.startsWith('js')) process.stderr.write(`fluxel run: ${file}: ran on ${result.backend}\n`);
+    if (backendChoice === 'wasm' && result.backend.startsWith('js')) {
+      process.stderr.write(`fluxel run: ${file}: ran on ${result.backend}${sensitivity ? ' (the wasm kernels carry no derivatives)' : ''}\n`);
+    }
     await Promise.all(frameWrites);
+    // Derivative images only for a finished run (a blow-up writes no output at all).
+    const sensitivityStats = sensitivity && result.status !== 'blow-up' ? await writeSensitivities(run, outIndex, sensitivity, o.output, reference) : null;
 
     if (o.stats) {
       const stats = {
@@ -232,6 +243,7 @@ export function runMain(argv: string[]): Promise<number> {
         ...(tracker?.best() ? { best: tracker.best() } : result.best ? { best: result.best } : {}),
         sourceHash: createHash('sha256').update(text).digest('hex'),
         ...(seed !== undefined ? { seed } : {}),
+        ...(sensitivityStats ? { sensitivity: sensitivityStats } : {}),
       };
       // JSON has no Infinity: PSNR of identical images is +∞ (numerics.md), written as the string "inf".
       await writeAtomically(o.stats, JSON.stringify(stats, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? (Number.isNaN(v) ? 'nan' : v > 0 ? 'inf' : '-inf') : v), 2) + '\n');
