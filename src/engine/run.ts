@@ -11,7 +11,7 @@ import { fillGhosts, makeGeometry, planGhosts, readInterior, writeInterior, type
 import { blurInto, gaussianTaps } from './blur';
 import { defaultBackend } from './wasm/select';
 import { jsBackend } from './jsBackend';
-import { Tangents } from './sensitivity';
+import { sensitivityKey, Tangents } from './sensitivity';
 import { extremumPrinciple, type ExtremumDecision } from './monitorPolicy';
 import { EngineError, planHalo, type HaloPlan } from './plan';
 import type {
@@ -70,7 +70,7 @@ export interface RunOptions {
 
 export interface Frame {
   readonly stats: FrameStats;
-  /** Copies of every field's values at this step, as [height, width] views. */
+  /** Copies of every field's values at this step, as [height, width] views; in sensitivity mode also their derivatives (sensitivityKey). */
   readonly fields: Readonly<Record<string, NdArray<FieldArray>>>;
 }
 
@@ -413,6 +413,12 @@ export class Run {
     this.scheme.fields.forEach((f, k) => {
       fields[f.name] = this.fieldStats(k);
       if (cb.onFrame) views[f.name] = ndarray(this.fieldData(k), [g.height, g.width]);
+      // Sensitivity mode: each field's derivatives travel beside its values, as Float32 pictures for display.
+      if (cb.onFrame && this.tangents) {
+        for (let j = 0; j < this.tangents.wrt.length; j++) {
+          views[sensitivityKey(f.name, this.tangents.wrt[j])] = ndarray(Float32Array.from(this.tangents.data(k, j)), [g.height, g.width]);
+        }
+      }
     });
     let extra: { psnr?: number; ssim?: number } = {};
     if (this.reference) {

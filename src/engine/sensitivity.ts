@@ -10,6 +10,14 @@ import { generateDualSource } from './dualCodegen';
 import { canonicalScheme, EngineError, type HaloPlan } from './plan';
 import type { DType, FieldArray, Geometry, KernelContext } from './types';
 
+/**
+ * The key under which a frame (Run's onFrame) carries d(field)/d(name) in sensitivity mode, beside the fields' own
+ * values; it holds '∂' and '/', so it never equals a field name.
+ */
+export function sensitivityKey(field: string, name: string): string {
+  return `∂${field}/∂${name}`;
+}
+
 /** What the dual kernels read besides the ordinary kernel context. */
 export interface TangentContext {
   cur: Float64Array[][];

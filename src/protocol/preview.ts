@@ -75,6 +75,8 @@ export namespace ToPreview {
     readonly inputLabel: string;
     /** Whether "fit knobs" can run now, and the button's tooltip (why it cannot, or what it will do). */
     readonly fit?: { readonly ready: boolean; readonly note: string };
+    /** The knob (or `dt`) whose derivative image the frames show (FromPreview.ShowDerivative); null: the values. */
+    readonly derivative?: string | null;
   }
   /** A run begins: sizes of the full-resolution grid and of the frames that will be posted. */
   export interface RunStarted extends Base {
@@ -102,6 +104,8 @@ export namespace ToPreview {
     readonly data: Float32Array;
     readonly stats: WireStats;
     readonly psnr: number | null;
+    /** Present when the frame is the derivative ∂field/∂wrt (the engine's sensitivity mode), not the field's values. */
+    readonly wrt?: string;
   }
   export interface Finding extends Base { readonly type: 'finding'; readonly runId: number; readonly finding: WireFinding }
   export interface RunEnded extends Base {
@@ -199,7 +203,9 @@ export namespace FromPreview {
   export interface Rerun extends Base { readonly type: 'rerun' }
   /** Fits the knobs that declare a range (or only `names`, when given) on the current scene; see ToPreview.Fit. */
   export interface FitKnobs extends Base { readonly type: 'fitKnobs'; readonly names?: readonly string[] }
-  export type Type = Ready | SetKnobs | WriteKnobs | SetInput | ChooseImage | ShowField | PickPixel | RequestProfile | Reveal | Rerun | FitKnobs;
+  /** Show the derivative of the shown field with respect to a knob or `dt` (computed in the engine worker), or the values (null). */
+  export interface ShowDerivative extends Base { readonly type: 'showDerivative'; readonly name: string | null }
+  export type Type = Ready | SetKnobs | WriteKnobs | SetInput | ChooseImage | ShowField | PickPixel | RequestProfile | Reveal | Rerun | FitKnobs | ShowDerivative;
 }
 
 // ------------------------------------------------------------------------------------------------ validation
@@ -298,6 +304,8 @@ export function validateFromPreview(raw: unknown): FromPreview.Type | null {
       if (!Array.isArray(raw.names) || raw.names.length === 0 || raw.names.length > 200 || !raw.names.every(name)) return null;
       return { type: 'fitKnobs', source, names: [...raw.names] as string[] };
     }
+    case 'showDerivative':
+      return raw.name === null || name(raw.name) ? { type: 'showDerivative', source, name: raw.name } : null;
     default:
       return null;
   }
@@ -346,9 +354,11 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
         if (!isObj(raw.fit) || typeof raw.fit.ready !== 'boolean' || !str(raw.fit.note, 1000)) return null;
         fit = { ready: raw.fit.ready, note: raw.fit.note };
       }
+      if (raw.derivative !== undefined && raw.derivative !== null && !name(raw.derivative)) return null;
+      const derivative = raw.derivative === undefined ? {} : { derivative: raw.derivative as string | null };
       return {
         type: 'scheme', source, fileName: raw.fileName, dims: raw.dims, fields: raw.fields as string[], knobs: knobs as KnobSpec[], dt,
-        steps: raw.steps, current: { values, dt: raw.current.dt }, input, inputLabel: raw.inputLabel, ...(fit ? { fit } : {}),
+        steps: raw.steps, current: { values, dt: raw.current.dt }, input, inputLabel: raw.inputLabel, ...(fit ? { fit } : {}), ...derivative,
       };
     }
     case 'runStarted':
@@ -363,7 +373,11 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
       const data = floats(raw.data, raw.width * raw.height);
       const stats = statsOf(raw.stats);
       if (!data || !stats || !(raw.psnr === null || typeof raw.psnr === 'number')) return null;
-      return { type: 'frame', source, runId: raw.runId, field: raw.field, step: raw.step, t: raw.t, width: raw.width, height: raw.height, data, stats, psnr: raw.psnr };
+      if (raw.wrt !== undefined && !name(raw.wrt)) return null;
+      return {
+        type: 'frame', source, runId: raw.runId, field: raw.field, step: raw.step, t: raw.t, width: raw.width, height: raw.height, data, stats, psnr: raw.psnr,
+        ...(raw.wrt !== undefined ? { wrt: raw.wrt as string } : {}),
+      };
     }
     case 'finding': {
       const f = finding(raw.finding);
