@@ -651,6 +651,7 @@ function mark(): void {
   b.fit = fit ? fit.status : '';
   b.fitValues = fit?.values ? JSON.stringify(fit.values) : '';
   b.knobs = JSON.stringify(knobValues);
+  b.derivative = store.frames[current]?.wrt ?? '';
   // The shown frame's mean as sent by the host and as held by the page, and the first frame's (cheap checks that the
   // page draws what the host sent; computed once the run has ended).
   const f = store.frames[current];
