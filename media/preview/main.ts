@@ -110,7 +110,7 @@ const fieldSel = h('select', { id: 'field', 'aria-label': 'field shown' });
 const fieldRow = h('div', { class: 'row', hidden: '' }, h('label', { for: 'field', text: 'field' }), fieldSel);
 // Derivative view: the host's engine worker computes ∂field/∂knob (sensitivity mode); this page only paints it.
 const derivSel = h('select', { id: 'derivative', 'aria-label': 'values or derivative with respect to a knob' });
-const derivRow = h('div', { class: 'row' }, h('label', { for: 'derivative', text: 'show' }), derivSel);
+const derivRow = h('div', { class: 'row' }, h('label', { for: 'derivative', text: 'derivative' }), derivSel);
 const knobsEl = h('div', { class: 'knobs' });
 const writeBtn = button('write knobs into the file', 'write the knob values into the scheme file (one undoable edit)', () => post({ type: 'writeKnobs', values: knobValues, dt: knobDt }));
 const resetBtn = button('file values', 'set the knobs back to the values in the file', () => resetKnobs());
@@ -682,7 +682,7 @@ function handleMessage(msg: ToPreview.Type): void {
       fitBtn.setAttribute('aria-label', `fit knobs: ${fitBtn.title}`);
       fieldSel.replaceChildren(...msg.fields.map((f) => h('option', { value: f, text: f })));
       fieldRow.hidden = msg.fields.length < 2;
-      derivSel.replaceChildren(h('option', { value: '', text: 'values' }), ...[...msg.knobs.map((k) => k.name), 'dt'].map((n) => h('option', { value: n, text: `∂/∂${n}` })));
+      derivSel.replaceChildren(h('option', { value: '', text: 'none (values)' }), ...[...msg.knobs.map((k) => k.name), 'dt'].map((n) => h('option', { value: n, text: `∂/∂${n}` })));
       derivSel.value = msg.derivative ?? '';
       document.title = `Fluxel · ${msg.fileName}`;
       return;

@@ -274,10 +274,21 @@ export class Run {
   step(): boolean {
     if (this.status !== 'running') return false;
     const t0 = nowSeconds();
-    const { ctx, geometry: g } = this;
+    const { ctx, geometry: g, scheme } = this;
     ctx.t = this.stepIndex * this.dt;
+    // Sensitivity mode: the dual kernels compute the lets and updates with their tangents; the plain ones stand by.
     if (this.tangents) this.tangents.step(ctx, this.stepIndex, this.scratch);
-    else this.computeLetsAndUpdate();
+    for (let k = 0; !this.tangents && k < scheme.lets.length; k++) {
+      const l = scheme.lets[k];
+      const taps = this.blurTaps[k];
+      if (l.kind === 'blur' && taps) {
+        const src = scheme.symbols.get(l.source) === 'let'
+          ? ctx.lets[scheme.lets.findIndex(x => x.name === l.source)]
+          : ctx.cur[scheme.fields.findIndex(f => f.name === l.source)];
+        blurInto(ctx.lets[k], src, this.scratch as FieldArray, g, taps, this.halo.letExtents[k], scheme.dims);
+      } else this.compiled.computeLet(k, g, ctx, this.halo.letExtents[k]);
+    }
+    if (!this.tangents) this.compiled.update(g, ctx);
     for (const k of this.updated) {
       const tmp = ctx.cur[k];
       ctx.cur[k] = ctx.next[k];
@@ -289,22 +300,6 @@ export class Run {
     this.checkMonitors();
     this.stepSeconds += nowSeconds() - t0;
     return this.status === 'running';
-  }
-
-  /** The plain kernels of one step: lets (blurs included), then the fused updates. */
-  private computeLetsAndUpdate(): void {
-    const { ctx, geometry: g, scheme } = this;
-    for (let k = 0; k < scheme.lets.length; k++) {
-      const l = scheme.lets[k];
-      const taps = this.blurTaps[k];
-      if (l.kind === 'blur' && taps) {
-        const src = scheme.symbols.get(l.source) === 'let'
-          ? ctx.lets[scheme.lets.findIndex(x => x.name === l.source)]
-          : ctx.cur[scheme.fields.findIndex(f => f.name === l.source)];
-        blurInto(ctx.lets[k], src, this.scratch as FieldArray, g, taps, this.halo.letExtents[k], scheme.dims);
-      } else this.compiled.computeLet(k, g, ctx, this.halo.letExtents[k]);
-    }
-    this.compiled.update(g, ctx);
   }
 
   /** One step with its callbacks (warnings, progress, frame capture); false when cancelled before stepping. */

@@ -47,7 +47,7 @@ function register(): void {
     assert.ok(k.colours > 20, 'the new frame is drawn');
   });
 
-  test('the show chooser switches to the derivative image ∂u/∂K (computed by the host) and back to the values', async () => {
+  test('the derivative chooser switches to the derivative image ∂u/∂K (computed by the host) and back to the values', async () => {
     type DerivAnswer = { before: { runId: string }; after: { runId: string; frames: string; derivative: string }; colours: number; painted: number; label: string };
     const d = await probe<DerivAnswer>('liverun', JSON.stringify({ action: 'derivative', name: 'K' }));
     info(`derivative view: run ${d.after.runId}, ${d.after.frames} frames, ${d.colours} colours; ${d.label}`);

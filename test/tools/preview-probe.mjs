@@ -97,7 +97,7 @@ export async function liveRunProbe(page, extra, outDir) {
       return { before, after, colours: px.colours };
     }
     case 'derivative': {
-      // Chooses "∂/∂NAME" in the show chooser (or "values" for an empty name) and waits for the finished rerun
+      // Chooses "∂/∂NAME" in the derivative chooser (or "none (values)" for an empty name) and waits for the finished rerun
       // whose shown frame is that derivative; returns the canvas' colours.
       const before = await facts(f);
       await f.locator('#derivative').selectOption(req.name ? req.name : { index: 0 });
