@@ -56,6 +56,14 @@ describe('fluxel run --sensitivity', () => {
     expect(Math.abs(stats.sensitivity.K.psnr - fdPsnr)).toBeLessThan(1e-3 * Math.abs(fdPsnr));
   });
 
+  it('without a clean reference (a scheme with no image field) writes the images and no metric derivatives', () => {
+    const r = fluxel('run', join(ROOT, 'examples/wave.fluxel'), '--size', '24x20', '--sensitivity', 'c', '--output', 'wave.png', '--stats', 'wave.json');
+    expect(r.code, r.stderr).toBe(0);
+    const stats = JSON.parse(readFileSync(join(dir, 'wave.json'), 'utf8'));
+    expect(stats.sensitivity).toEqual({ c: { field: 'u', step: 80, image: 'wave.d-c.pfm' } });
+    expect(existsSync(join(dir, 'wave.d-c.pfm'))).toBe(true);
+  });
+
   it('refuses unknown and repeated names (exit 2, naming what exists)', () => {
     const a = fluxel('run', EXAMPLE, ...SCENE, '--sensitivity', 'K,kappa', '--output', 'x.png');
     expect(a.code).toBe(2);
