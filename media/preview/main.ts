@@ -124,6 +124,9 @@ const scrubber = h('div', { class: 'scrubber' },
 );
 const fieldSel = h('select', { id: 'field', 'aria-label': 'field shown' });
 const fieldRow = h('div', { class: 'row', hidden: '' }, h('label', { for: 'field', text: 'field' }), fieldSel);
+// Derivative view: the host's engine worker computes ∂field/∂knob (sensitivity mode); this page only paints it.
+const derivSel = h('select', { id: 'derivative', 'aria-label': 'values or derivative with respect to a knob' });
+const derivRow = h('div', { class: 'row' }, h('label', { for: 'derivative', text: 'derivative' }), derivSel);
 const knobsEl = h('div', { class: 'knobs' });
 const writeBtn = button('write knobs into the file', 'write the knob values into the scheme file (one undoable edit)', () => post({ type: 'writeKnobs', values: knobValues, dt: knobDt }));
 const resetBtn = button('file values', 'set the knobs back to the values in the file', () => resetKnobs());
@@ -136,7 +139,7 @@ const weightsTitle = h('h2', { id: 'weights-h', text: 'weights' });
 const weightsEl = h('div', { class: 'weights', text: 'click a pixel to see the weights it is updated with' });
 const impulseEl = h('div', { class: 'impulse' });
 const weightsSection = h('section', { class: 'card', 'aria-labelledby': 'weights-h' }, weightsTitle, weightsEl, impulseEl);
-const right = h('section', { class: 'right', 'aria-label': 'controls' }, scrubber, fieldRow, knobsSection, weightsSection);
+const right = h('section', { class: 'right', 'aria-label': 'controls' }, scrubber, fieldRow, derivRow, knobsSection, weightsSection);
 
 const findingsEl = h('ul', { class: 'findings' });
 const findingsSection = h('section', { class: 'card', 'aria-labelledby': 'findings-h' }, h('h2', { id: 'findings-h', text: 'findings' }), findingsEl);
@@ -275,12 +278,21 @@ function draw(): void {
   if (oneD) {
     // Bands 0..current of the space–time picture; each band is one recorded step, `rep` rows high.
     const img = octx.createImageData(fw, fh);
-    const scale = state.view === 'change' ? Math.max(1e-300, ...store.frames.slice(0, current + 1).map((fr) => changeScale(fr.data, f0.data))) : 0;
+    // Derivative frames (f.wrt) are signed: diverging colours about zero, like the change view about the start.
+    const base = f.wrt !== undefined ? new Float32Array(fw) : f0.data;
+    const mode = f.wrt !== undefined ? 'change' : state.view;
+    const scale = mode === 'change' ? Math.max(1e-300, ...store.frames.slice(0, current + 1).map((fr) => changeScale(fr.data, base))) : 0;
     const row = new Uint8ClampedArray(fw * 4);
     for (let r = 0; r <= current; r++) {
-      paint(row, state.view, store.frames[r].data, f0.data, win, diverging, scale);
+      paint(row, mode, store.frames[r].data, base, win, diverging, scale);
       for (let k = 0; k < rep; k++) img.data.set(row, (r * rep + k) * fw * 4);
     }
+    octx.putImageData(img, 0, 0);
+  } else if (f.wrt !== undefined) {
+    // A derivative image: signed, zero in the middle of the diverging colours, scaled to its own largest |value|.
+    const img = octx.createImageData(fw, fh);
+    const zero = new Float32Array(f.data.length);
+    paint(img.data, 'change', f.data, zero, win, diverging, changeScale(f.data, zero));
     octx.putImageData(img, 0, 0);
   } else {
     const img = octx.createImageData(fw, fh);
@@ -303,7 +315,7 @@ function draw(): void {
     ctx.strokeStyle = getComputedStyle(document.body).getPropertyValue('--vscode-focusBorder').trim() || '#0a84ff';
     ctx.strokeRect(cx - size / 2 - 1, cy - size / 2 - 1, size + 2, size + 2);
   }
-  canvas.setAttribute('aria-label', `${state.view} view of ${f.field}, ${stepLabel(f.step, s.steps, f.t)}; min ${fmt(f.stats.min)}, max ${fmt(f.stats.max)}, mean ${fmt(f.stats.mean)}`);
+  canvas.setAttribute('aria-label', `${f.wrt !== undefined ? `derivative ∂${f.field}/∂${f.wrt}` : `${state.view} view of ${f.field}`}, ${stepLabel(f.step, s.steps, f.t)}; min ${fmt(f.stats.min)}, max ${fmt(f.stats.max)}, mean ${fmt(f.stats.mean)}`);
 }
 
 let dragging: { x: number; y: number; moved: boolean } | null = null;
@@ -571,6 +583,7 @@ sceneSel.addEventListener('change', sendInput);
 noiseIn.addEventListener('change', sendInput);
 seedIn.addEventListener('change', sendInput);
 fieldSel.addEventListener('change', () => post({ type: 'showField', field: fieldSel.value }));
+derivSel.addEventListener('change', () => post({ type: 'showDerivative', name: derivSel.value === '' ? null : derivSel.value }));
 
 // ------------------------------------------------------------------------------------------------ findings and verdict
 
@@ -701,6 +714,7 @@ function mark(): void {
   b.fit = fit ? fit.status : '';
   b.fitValues = fit?.values ? JSON.stringify(fit.values) : '';
   b.knobs = JSON.stringify(knobValues);
+  b.derivative = store.frames[current]?.wrt ?? '';
   // The shown frame's mean as sent by the host and as held by the page, and the first frame's (cheap checks that the
   // page draws what the host sent; computed once the run has ended).
   const f = store.frames[current];
@@ -732,6 +746,8 @@ function handleMessage(msg: ToPreview.Type): void {
       fitBtn.setAttribute('aria-label', `fit knobs: ${fitBtn.title}`);
       fieldSel.replaceChildren(...msg.fields.map((f) => h('option', { value: f, text: f })));
       fieldRow.hidden = msg.fields.length < 2;
+      derivSel.replaceChildren(h('option', { value: '', text: 'none (values)' }), ...[...msg.knobs.map((k) => k.name), 'dt'].map((n) => h('option', { value: n, text: `∂/∂${n}` })));
+      derivSel.value = msg.derivative ?? '';
       document.title = `Fluxel · ${msg.fileName}`;
       return;
     }

@@ -36,15 +36,18 @@ function outputFieldIndex(scheme: CheckedScheme, name?: string): number {
   const imageField = scheme.fields.findIndex(f => f.init.kind === 'image');
   return imageField >= 0 ? imageField : Math.max(0, scheme.fields.findIndex(f => f.updated));
 }
+import { parseSensitivity, writeSensitivities } from './sensitivity';
 
 const USAGE = [
   'usage: fluxel run FILE [--input PATH [--range LO:HI] | --scene NAME [--noise SIGMA] [--seed N]] [--size WxH]',
   '                  [--input NAME=PATH|NAME=scene:SCENE [--range NAME=LO:HI] ...]',
   '                  [--set NAME=VALUE ...] [--steps N] [--float64] [--field NAME] [--extremum-check] [--backend js|wasm|auto]',
-  '                  --output PATH [--frames DIR --every K] [--stats PATH [--metric psnr|ssim]]',
+  '                  --output PATH [--frames DIR --every K] [--stats PATH [--metric psnr|ssim]] [--sensitivity NAME[,NAME...]]',
   '       fluxel run --replay STATS.json [--output PATH]',
   '  --set also accepts dt=VALUE; without --input or --scene, image fields use the survey scene.',
   '  --input NAME=PATH gives the picture of `image "NAME"` fields; scene:mask is the generated mask, scene:palette the colour chart.',
+  '  --sensitivity K,dt writes d(output)/d(NAME) beside the output as OUTPUT-STEM.d-NAME.pfm, and with --stats the',
+  '  derivatives of MSE, PSNR and SSIM against the clean scene (forward-mode derivatives on the JavaScript kernels).',
   '  With a scene, --stats gets `best`: the step (any step, not only recorded frames) maximising --metric (default psnr).',
   '  --baseline OTHER.fluxel: also run OTHER on the same input; writes NAME.baseline.EXT and NAME.diff.pfm beside',
   '  --output and the deltas (this − baseline) of PSNR, SSIM (with a scene), TV and the difference.',
@@ -72,6 +75,7 @@ const OPTIONS = {
   metric: { type: 'string' },
   baseline: { type: 'string' },
   replay: { type: 'string' },
+  sensitivity: { type: 'string' },
   help: { type: 'boolean', short: 'h' },
 } as const;
 
@@ -159,6 +163,7 @@ async function runCommand(argv: string[], expected: Expected | null): Promise<nu
     if (dt !== undefined && scheme.dtBounds && (dt < scheme.dtBounds.lo || dt > scheme.dtBounds.hi)) {
       process.stderr.write(`fluxel run: note: --set dt=${dt} lies outside its declared range [${scheme.dtBounds.lo}, ${scheme.dtBounds.hi}].\n`);
     }
+    const sensitivity = o.sensitivity === undefined ? null : parseSensitivity(o.sensitivity, scheme, USAGE);
     if (o.field !== undefined && !scheme.fields.some(f => f.name === o.field)) {
       throw new UsageError(`--field ${o.field}: the scheme has no field '${o.field}'.`);
     }
@@ -197,6 +202,8 @@ async function runCommand(argv: string[], expected: Expected | null): Promise<nu
         ssim: reference !== null,
         // The analysis decides whether the new-extremum monitor applies (numerics.md, "Monitors"); the flag forces it.
         monitors: { extremumCheck: o['extremum-check'] ? true : 'auto' },
+        // Sensitivity mode runs the JavaScript dual kernels (the SIMD ones carry no tangents); stats.backend says so.
+        ...(sensitivity ? { sensitivity } : {}),
       });
     } catch (err) {
       if (err instanceof EngineError) {
@@ -302,8 +309,12 @@ async function runCommand(argv: string[], expected: Expected | null): Promise<nu
       },
     });
     bar?.stop();
-    if (backendChoice === 'wasm' && result.backend.startsWith('js')) process.stderr.write(`fluxel run: ${file}: ran on ${result.backend}\n`);
+    if (backendChoice === 'wasm' && result.backend.startsWith('js')) {
+      process.stderr.write(`fluxel run: ${file}: ran on ${result.backend}${sensitivity ? ' (the wasm kernels carry no derivatives)' : ''}\n`);
+    }
     await Promise.all(frameWrites);
+    // Derivative images only for a finished run (a blow-up writes no output at all).
+    const sensitivityStats = sensitivity && result.status !== 'blow-up' ? await writeSensitivities(run, outIndex, sensitivity, o.output, reference) : null;
 
     // The output hash covers the whole final state: every field, in declaration order (see stateHash).
     const outputHash = stateHash(scheme.fields.map((_, k) => run.fieldData(k)));
@@ -331,6 +342,7 @@ async function runCommand(argv: string[], expected: Expected | null): Promise<nu
         height: run.geometry.height,
         outputHash,
         outputHashRule: STATE_HASH_RULE,
+        ...(sensitivityStats ? { sensitivity: sensitivityStats } : {}),
       };
       // JSON has no Infinity: PSNR of identical images is +∞ (numerics.md), written as the string "inf".
       await writeAtomically(o.stats, JSON.stringify(stats, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? (Number.isNaN(v) ? 'nan' : v > 0 ? 'inf' : '-inf') : v), 2) + '\n');

@@ -13,6 +13,8 @@ import { STOP_CHANGE_CAP, type CheckedScheme } from '../notation/scheme';
 import { fillGhosts, makeGeometry, planGhosts, readInterior, writeInterior, type GhostPlan } from './boundary';
 import { blurInto, gaussianTaps } from './blur';
 import { defaultBackend } from './wasm/select';
+import { jsBackend } from './jsBackend';
+import { sensitivityKey, Tangents } from './sensitivity';
 import { extremumPrinciple, type ExtremumDecision } from './monitorPolicy';
 import { EngineError, planHalo, type HaloPlan } from './plan';
 import type {
@@ -74,6 +76,12 @@ export interface RunOptions {
    * default: the scheme's `until change < tol`, else none. `steps` is then the safety cap (see DEFAULT_STEP_CAP).
    */
   readonly stopChange?: number | null;
+  /**
+   * Sensitivity mode: forward-mode derivatives of every field with respect to these names (declared params and/or
+   * `dt`), carried through every step (sensitivity.ts). Runs on the JavaScript dual kernels whatever `backend` says;
+   * the result's backend is then `js-tangents`.
+   */
+  readonly sensitivity?: readonly string[];
 }
 
 /** The step cap of `until change < tol` when nothing else sets one; reaching it is a `no-convergence` warning. */
@@ -81,7 +89,7 @@ export const DEFAULT_STEP_CAP = STOP_CHANGE_CAP;
 
 export interface Frame {
   readonly stats: FrameStats;
-  /** Copies of every field's values at this step, as [height, width] views. */
+  /** Copies of every field's values at this step, as [height, width] views; in sensitivity mode also their derivatives (sensitivityKey). */
   readonly fields: Readonly<Record<string, NdArray<FieldArray>>>;
 }
 
@@ -173,12 +181,16 @@ export class Run {
   private readonly initialMeans: number[];
   /** RMS change of the last step (largest over updated fields), when the change rule needs it every step. */
   lastChangeRms = NaN;
+  /** The tangents of sensitivity mode (null otherwise). */
+  readonly tangents: Tangents | null;
 
   constructor(scheme: CheckedScheme, opts: RunOptions = {}) {
     this.scheme = scheme;
     this.dtype = opts.dtype ?? 'float32';
     // Without a choice: the SIMD kernels where the scheme allows (wasm/select.ts), else the JavaScript ones.
-    const backend = opts.backend ?? defaultBackend();
+    const wrt = opts.sensitivity ?? null;
+    // The SIMD kernels carry no tangents: sensitivity mode runs on the JavaScript dual kernels.
+    const backend = wrt ? jsBackend : opts.backend ?? defaultBackend();
     this.compiled = backend.compile(scheme, { dtype: this.dtype });
 
     // Parameters: declared values, then overrides; passed to kernels as a vector so sliders never recompile.
@@ -259,6 +271,8 @@ export class Run {
       // A fixed halo is written once; kernels never write ghost cells, so it survives every swap.
       if (next[k] !== cur[k]) fillGhosts(next[k], g, this.ghosts[k]);
     });
+    this.tangents = wrt ? new Tangents(scheme, wrt, g, this.halo, this.dtype, this.ghosts) : null;
+    this.tangents?.init(this.ctx, this.ghosts);
 
     // Monitor set-up from the initial state.
     let lo = Infinity, hi = -Infinity, maxAbs = 0;
@@ -309,7 +323,9 @@ export class Run {
     const t0 = nowSeconds();
     const { ctx, geometry: g, scheme } = this;
     ctx.t = this.stepIndex * this.dt;
-    for (let k = 0; k < scheme.lets.length; k++) {
+    // Sensitivity mode: the dual kernels compute the lets and updates with their tangents; the plain ones stand by.
+    if (this.tangents) this.tangents.step(ctx, this.stepIndex, this.scratch);
+    for (let k = 0; !this.tangents && k < scheme.lets.length; k++) {
       const l = scheme.lets[k];
       const taps = this.blurTaps[k];
       if (l.kind === 'blur' && taps) {
@@ -319,12 +335,13 @@ export class Run {
         blurInto(ctx.lets[k], src, this.scratch as FieldArray, g, taps, this.halo.letExtents[k], scheme.dims);
       } else this.compiled.computeLet(k, g, ctx, this.halo.letExtents[k]);
     }
-    this.compiled.update(g, ctx);
+    if (!this.tangents) this.compiled.update(g, ctx);
     for (const k of this.updated) {
       const tmp = ctx.cur[k];
       ctx.cur[k] = ctx.next[k];
       ctx.next[k] = tmp;
       fillGhosts(ctx.cur[k], g, this.ghosts[k]);
+      this.tangents?.swap(k);
     }
     this.stepIndex++;
     this.checkMonitors();
@@ -404,7 +421,7 @@ export class Run {
       dt: this.dt,
       params: this.params,
       dtype: this.dtype,
-      backend: this.compiled.backend,
+      backend: this.tangents ? 'js-tangents' : this.compiled.backend,
       stepSeconds: this.stepSeconds,
       frames: this.frames,
       warnings: this.warnings,
@@ -424,6 +441,14 @@ export class Run {
     const g = this.geometry;
     const out = this.dtype === 'float32' ? new Float32Array(g.width * g.height) : new Float64Array(g.width * g.height);
     return readInterior(out, this.ctx.cur[k], g);
+  }
+
+  /** Sensitivity mode: d(field)/d(name) at the current step, interior only, row-major (Float64). */
+  sensitivityData(field: number, name: string): Float64Array {
+    if (!this.tangents) throw new EngineError('this run carries no sensitivities');
+    const j = this.tangents.wrt.indexOf(name);
+    if (j < 0) throw new EngineError(`this run carries no sensitivity with respect to '${name}'`);
+    return this.tangents.data(field, j);
   }
 
   /** The padded buffers themselves (read-only use: tests and the kernel-weights view). */
@@ -523,6 +548,12 @@ export class Run {
         fields[f.name] = { ...base, ...extra };
       } else fields[f.name] = base;
       if (cb.onFrame && data) views[f.name] = ndarray(data, [g.height, g.width]);
+      // Sensitivity mode: each field's derivatives travel beside its values, as Float32 pictures for display.
+      if (cb.onFrame && this.tangents) {
+        for (let j = 0; j < this.tangents.wrt.length; j++) {
+          views[sensitivityKey(f.name, this.tangents.wrt[j])] = ndarray(Float32Array.from(this.tangents.data(k, j)), [g.height, g.width]);
+        }
+      }
     });
     let extra: { psnr?: number; ssim?: number } = {};
     if (this.reference) {

@@ -92,6 +92,8 @@ export namespace ToPreview {
     readonly fit?: { readonly ready: boolean; readonly note: string };
     /** The named inputs the scheme reads (`image "NAME"`), in order of first use; absent or empty when none. */
     readonly namedInputs?: readonly NamedInputSpec[];
+    /** The knob (or `dt`) whose derivative image the frames show (FromPreview.ShowDerivative); null: the values. */
+    readonly derivative?: string | null;
   }
   /** A run begins: sizes of the full-resolution grid and of the frames that will be posted. */
   export interface RunStarted extends Base {
@@ -121,6 +123,8 @@ export namespace ToPreview {
     readonly psnr: number | null;
     /** Schemes binding image.red, .green and .blue: those three fields at this step, same size as `data`, for a colour view. */
     readonly colour?: { readonly red: Float32Array; readonly green: Float32Array; readonly blue: Float32Array };
+    /** Present when the frame is the derivative ∂field/∂wrt (the engine's sensitivity mode), not the field's values. */
+    readonly wrt?: string;
   }
   export interface Finding extends Base { readonly type: 'finding'; readonly runId: number; readonly finding: WireFinding }
   export interface RunEnded extends Base {
@@ -222,7 +226,9 @@ export namespace FromPreview {
   export interface Rerun extends Base { readonly type: 'rerun' }
   /** Fits the knobs that declare a range (or only `names`, when given) on the current scene; see ToPreview.Fit. */
   export interface FitKnobs extends Base { readonly type: 'fitKnobs'; readonly names?: readonly string[] }
-  export type Type = Ready | SetKnobs | WriteKnobs | SetInput | ChooseImage | ShowField | PickPixel | RequestProfile | Reveal | Rerun | FitKnobs | SetNamedInput | ChooseNamedImage;
+  /** Show the derivative of the shown field with respect to a knob or `dt` (computed in the engine worker), or the values (null). */
+  export interface ShowDerivative extends Base { readonly type: 'showDerivative'; readonly name: string | null }
+  export type Type = Ready | SetKnobs | WriteKnobs | SetInput | ChooseImage | ShowField | PickPixel | RequestProfile | Reveal | Rerun | FitKnobs | SetNamedInput | ChooseNamedImage | ShowDerivative;
 }
 
 // ------------------------------------------------------------------------------------------------ validation
@@ -351,6 +357,8 @@ export function validateFromPreview(raw: unknown): FromPreview.Type | null {
       if (!Array.isArray(raw.names) || raw.names.length === 0 || raw.names.length > 200 || !raw.names.every(name)) return null;
       return { type: 'fitKnobs', source, names: [...raw.names] as string[] };
     }
+    case 'showDerivative':
+      return raw.name === null || name(raw.name) ? { type: 'showDerivative', source, name: raw.name } : null;
     default:
       return null;
   }
@@ -399,6 +407,8 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
         if (!isObj(raw.fit) || typeof raw.fit.ready !== 'boolean' || !str(raw.fit.note, 1000)) return null;
         fit = { ready: raw.fit.ready, note: raw.fit.note };
       }
+      if (raw.derivative !== undefined && raw.derivative !== null && !name(raw.derivative)) return null;
+      const derivative = raw.derivative === undefined ? {} : { derivative: raw.derivative as string | null };
       let namedInputs: NamedInputSpec[] | undefined;
       if (raw.namedInputs !== undefined) {
         if (!Array.isArray(raw.namedInputs) || raw.namedInputs.length > 50) return null;
@@ -412,7 +422,7 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
       return {
         type: 'scheme', source, fileName: raw.fileName, dims: raw.dims, fields: raw.fields as string[], knobs: knobs as KnobSpec[], dt,
         steps: raw.steps, current: { values, dt: raw.current.dt }, input, inputLabel: raw.inputLabel, ...(fit ? { fit } : {}),
-        ...(namedInputs ? { namedInputs } : {}),
+        ...(namedInputs ? { namedInputs } : {}), ...derivative,
       };
     }
     case 'runStarted':
@@ -427,6 +437,7 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
       const data = floats(raw.data, raw.width * raw.height);
       const stats = statsOf(raw.stats);
       if (!data || !stats || !(raw.psnr === null || typeof raw.psnr === 'number')) return null;
+      if (raw.wrt !== undefined && !name(raw.wrt)) return null;
       let colour: ToPreview.Frame['colour'];
       if (raw.colour !== undefined) {
         if (!isObj(raw.colour)) return null;
@@ -438,6 +449,7 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
       return {
         type: 'frame', source, runId: raw.runId, field: raw.field, step: raw.step, t: raw.t, width: raw.width, height: raw.height, data, stats, psnr: raw.psnr,
         ...(colour ? { colour } : {}),
+        ...(raw.wrt !== undefined ? { wrt: raw.wrt as string } : {}),
       };
     }
     case 'finding': {

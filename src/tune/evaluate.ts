@@ -2,6 +2,7 @@
 // picture field against the clean reference after every step. The unit of work of sweeps, fits and their workers.
 // Imports the engine and the metrics only; must not import Node modules, vscode or the DOM (it runs in workers).
 
+import { metricSensitivities } from '../analysis/metricGradients';
 import { psnr, ssim, SSIM_WINDOW, type MetricImage } from '../analysis/metrics';
 import { createRun, middleRow, type RunImage } from '../engine';
 import type { CheckedScheme } from '../notation/scheme';
@@ -19,6 +20,12 @@ export interface Curve {
   readonly bestStep: number;
   readonly best: number;
   readonly status: 'done' | 'blow-up';
+  /**
+   * With gradient names (evaluateSettingWithGradient): d(metric at the best step)/d(name), one entry per name, in
+   * their order. By Danskin's theorem this is the gradient of the best-step score wherever that step is the only
+   * best one; 0 when the best step is 0 (the input does not depend on the names); NaN entries when no step has a value.
+   */
+  readonly gradient?: Float64Array;
 }
 
 export interface EvaluationTask {
@@ -90,6 +97,51 @@ export function evaluateSetting(scheme: CheckedScheme, task: EvaluationTask, set
   }
   const b = argBest(values);
   return { values, bestStep: b.step, best: b.value, status };
+}
+
+/**
+ * Like evaluateSetting, in the engine's sensitivity mode: the run carries one tangent per name (params or dt), and
+ * the curve gets the exact derivative of the metric at its best step. The tangents of the best step so far are kept
+ * (copied when a new best appears), so the derivative needs no second run.
+ */
+export function evaluateSettingWithGradient(scheme: CheckedScheme, task: EvaluationTask, setting: Setting, names: readonly string[]): Curve {
+  const params: Record<string, number> = {};
+  let dt: number | undefined;
+  for (const [name, v] of Object.entries(setting)) {
+    if (name === 'dt') dt = v;
+    else params[name] = v;
+  }
+  // No new-extremum monitor: an evaluation reads no warnings (a blow-up stops it either way), so the static analysis
+  // that decides the monitor would be spent for nothing on every evaluation.
+  const run = createRun(scheme, { image: task.image, params, dt, steps: task.steps, dtype: task.dtype ?? 'float32', sensitivity: names, monitors: { extremumCheck: false } });
+  const k = pictureField(scheme);
+  const reference = referenceFor(scheme, task.reference);
+  const measure = metricAgainst(reference, task.metric);
+  const values = new Float64Array(task.steps + 1).fill(Number.NaN);
+  let data = run.fieldData(k);
+  values[0] = measure(data);
+  let best: { step: number; value: number; data: ArrayLike<number>; tangents: ArrayLike<number>[] } = { step: values[0] === values[0] ? 0 : -1, value: values[0], data, tangents: names.map(() => new Float64Array(data.length)) };
+  let status: Curve['status'] = 'done';
+  for (let s = 1; s <= task.steps; s++) {
+    run.step();
+    if (run.status === 'blow-up') {
+      status = 'blow-up';
+      break;
+    }
+    data = run.fieldData(k);
+    const v = measure(data);
+    values[s] = v;
+    // The same rule as argBest: the earliest of equal values wins, NaN never does.
+    if (v === v && (best.step < 0 || v > best.value)) best = { step: s, value: v, data, tangents: names.map(n => run.sensitivityData(k, n)) };
+  }
+  const gradient = new Float64Array(names.length).fill(Number.NaN);
+  if (best.step >= 0) {
+    const ref = { width: reference.width, height: reference.height, data: Float64Array.from(reference.data) };
+    const img = { width: reference.width, height: reference.height, data: Float64Array.from(best.data) };
+    const d = metricSensitivities(ref, img, best.tangents, task.metric === 'ssim');
+    d.forEach((m, j) => (gradient[j] = task.metric === 'ssim' ? (m.ssim as number) : m.psnr));
+  }
+  return { values, bestStep: best.step, best: best.value, status, gradient };
 }
 
 /** The `best` entry of `fluxel run --stats`: the step maximising the chosen metric, with PSNR beside it. */

@@ -71,8 +71,9 @@ export class TunePool {
   /**
    * Evaluates every setting, at most one per worker at a time; `onResult` is called as each finishes
    * (in completion order), the returned array is in the order of `settings`. The first failure rejects.
+   * With `gradient` names each setting runs in the engine's sensitivity mode and its curve carries the gradient.
    */
-  evaluate(settings: readonly Setting[], onResult?: (index: number, curve: Curve) => void): Promise<Curve[]> {
+  evaluate(settings: readonly Setting[], onResult?: (index: number, curve: Curve) => void, gradient?: readonly string[]): Promise<Curve[]> {
     const results: Curve[] = new Array(settings.length);
     if (settings.length === 0) return Promise.resolve(results);
     return new Promise<Curve[]>((resolve, reject) => {
@@ -90,7 +91,7 @@ export class TunePool {
         const index = next++;
         const id = this.nextId++;
         ids.set(id, index);
-        const msg: ToTuneWorker.Eval = { type: 'eval', id, setting: settings[index] };
+        const msg: ToTuneWorker.Eval = { type: 'eval', id, setting: settings[index], ...(gradient ? { gradient } : {}) };
         w.postMessage(msg);
       };
       for (const w of this.workers) {
@@ -104,7 +105,7 @@ export class TunePool {
             finish(new Error(m.message));
             return;
           }
-          results[index] = { values: m.values, bestStep: m.bestStep, best: m.best, status: m.status };
+          results[index] = { values: m.values, bestStep: m.bestStep, best: m.best, status: m.status, ...(m.gradient ? { gradient: m.gradient } : {}) };
           done++;
           onResult?.(index, results[index]);
           if (done === settings.length) finish();

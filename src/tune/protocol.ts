@@ -31,6 +31,8 @@ export namespace ToTuneWorker {
     readonly type: 'eval';
     readonly id: number;
     readonly setting: Setting;
+    /** Names to differentiate by: the reply then carries the metric's gradient at the best step (sensitivity mode). */
+    readonly gradient?: readonly string[];
   }
   export type Type = Setup | Eval;
 }
@@ -43,6 +45,7 @@ export namespace FromTuneWorker {
     readonly bestStep: number;
     readonly best: number;
     readonly status: 'done' | 'blow-up';
+    readonly gradient?: Float64Array;
   }
   export interface Failed { readonly type: 'error'; readonly id: number; readonly message: string }
   export type Type = Result | Failed;

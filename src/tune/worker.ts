@@ -6,7 +6,7 @@ import { parentPort } from 'node:worker_threads';
 import { parseAndCheck } from '../notation/index';
 import type { CheckedScheme } from '../notation/scheme';
 import { backendByName, setDefaultBackend } from '../engine/wasm/select';
-import { evaluateSetting, type EvaluationTask } from './evaluate';
+import { evaluateSetting, evaluateSettingWithGradient, type EvaluationTask } from './evaluate';
 import type { FromTuneWorker, ToTuneWorker } from './protocol';
 
 let current: { scheme: CheckedScheme; task: EvaluationTask } | { error: string } | null = null;
@@ -27,8 +27,10 @@ function evaluate(msg: ToTuneWorker.Eval): FromTuneWorker.Type {
   try {
     if (!current) throw new Error('tuning worker: eval before setup');
     if ('error' in current) throw new Error(current.error);
-    const c = evaluateSetting(current.scheme, current.task, msg.setting);
-    return { type: 'result', id: msg.id, values: c.values, bestStep: c.bestStep, best: c.best, status: c.status };
+    const c = msg.gradient
+      ? evaluateSettingWithGradient(current.scheme, current.task, msg.setting, msg.gradient)
+      : evaluateSetting(current.scheme, current.task, msg.setting);
+    return { type: 'result', id: msg.id, values: c.values, bestStep: c.bestStep, best: c.best, status: c.status, ...(c.gradient ? { gradient: c.gradient } : {}) };
   } catch (err) {
     return { type: 'error', id: msg.id, message: err instanceof Error ? err.message : String(err) };
   }

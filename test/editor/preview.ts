@@ -47,6 +47,19 @@ function register(): void {
     assert.ok(k.colours > 20, 'the new frame is drawn');
   });
 
+  test('the derivative chooser switches to the derivative image ∂u/∂K (computed by the host) and back to the values', async () => {
+    type DerivAnswer = { before: { runId: string }; after: { runId: string; frames: string; derivative: string }; colours: number; painted: number; label: string };
+    const d = await probe<DerivAnswer>('liverun', JSON.stringify({ action: 'derivative', name: 'K' }));
+    info(`derivative view: run ${d.after.runId}, ${d.after.frames} frames, ${d.colours} colours; ${d.label}`);
+    assert.notEqual(d.after.runId, d.before.runId, 'choosing a derivative starts a run with the tangent');
+    assert.equal(d.after.derivative, 'K');
+    assert.match(d.label, /^derivative ∂u\/∂K, /);
+    assert.ok(d.painted > 0.3 && d.colours > 20, `the derivative picture is drawn in many colours (${d.colours})`);
+    const v = await probe<DerivAnswer>('liverun', JSON.stringify({ action: 'derivative', name: '' }));
+    assert.equal(v.after.derivative, '', 'back to the values');
+    assert.match(v.label, /view of u, /);
+  });
+
   test('writing the knobs into the file is one edit, and one undo takes it back', async () => {
     const editor = await vscode.window.showTextDocument(await vscode.workspace.openTextDocument(workspaceFile('edge-preserving.fluxel')), { preview: false, viewColumn: vscode.ViewColumn.One });
     const before = editor.document.getText();

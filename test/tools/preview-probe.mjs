@@ -96,6 +96,19 @@ export async function liveRunProbe(page, extra, outDir) {
       const px = await canvasPixels(f);
       return { before, after, colours: px.colours };
     }
+    case 'derivative': {
+      // Chooses "∂/∂NAME" in the derivative chooser (or "none (values)" for an empty name) and waits for the finished rerun
+      // whose shown frame is that derivative; returns the canvas' colours.
+      const before = await facts(f);
+      await f.locator('#derivative').selectOption(req.name ? req.name : { index: 0 });
+      const after = await pollFor(page, `a finished run showing ${req.name ? `∂/∂${req.name}` : 'the values'}`, async () => {
+        const x = await facts(f);
+        return x.runId !== before.runId && x.status === 'done' && x.derivative === req.name ? x : null;
+      });
+      const px = await canvasPixels(f);
+      const label = await f.locator('canvas.picture').getAttribute('aria-label');
+      return { before, after, colours: px.colours, painted: px.painted, label };
+    }
     case 'finding': {
       await pollFor(page, 'a finding', async () => Number((await facts(f)).findings) > 0);
       const button = f.locator('button.finding').first();

@@ -9,6 +9,7 @@ import type { WorkerRunCallbacks, WorkerRunHandle } from '../../engine/worker/wo
 import type { FrameStats, RunWarning } from '../../engine/types';
 import type { BackendChoice } from '../../engine/wasm/select';
 import { canonicalScheme } from '../../engine/plan';
+import { sensitivityKey } from '../../engine/sensitivity';
 import { parse, parseAndCheck } from '../../notation';
 import type { SourceRange } from '../../notation/ast';
 import type { CheckedScheme } from '../../notation/scheme';
@@ -237,6 +238,8 @@ export class PreviewSession {
   /** The knob fit in flight, if any: a new fit or dispose() aborts it. */
   private fitting: { readonly fitId: number; readonly abort: AbortController } | null = null;
   private nextFitId = 1;
+  /** The knob (or dt) whose derivative image the panel shows; runs then carry that one tangent (sensitivity mode). */
+  private derivative: string | null = null;
 
   /** Knob values remembered from an earlier session, applied at the first successful check. */
   private recalled: StoredKnobs | null;
@@ -311,6 +314,8 @@ export class PreviewSession {
     }
     this.rememberKnobs();
     this.good = { text, scheme };
+    // A derivative view of a knob the file no longer declares goes back to the values.
+    if (this.derivative !== null && this.derivative !== 'dt' && !scheme.params.some((p) => p.name === this.derivative)) this.derivative = null;
     this.postScheme();
     this.startRun();
   }
@@ -333,7 +338,7 @@ export class PreviewSession {
       type: 'scheme', source: this.env.source, fileName: this.env.fileName, dims: s.dims, fields,
       knobs, dt: { name: 'dt', value: s.dt, lo: s.dtBounds?.lo ?? null, hi: s.dtBounds?.hi ?? null }, steps: s.steps,
       current: this.knobs(), input: this.input, inputLabel: inputLabel(this.input), fit: this.fitState(),
-      namedInputs: this.namedSpecs(s),
+      namedInputs: this.namedSpecs(s), derivative: this.derivative,
     };
     this.env.post(this.schemeMsg);
   }
@@ -532,6 +537,8 @@ export class PreviewSession {
       params: knobs.values, dt: knobs.dt, every,
       monitors: { extremumCheck: known ?? 'auto' },
       backend: this.env.settings().backend ?? 'auto',
+      // The derivative view: the worker's run carries one tangent (the JavaScript dual kernels), frames carry the image.
+      ...(this.derivative ? { sensitivity: [this.derivative] } : {}),
     };
     const launch = () => {
       if (this.run !== run || this.disposed) return;
@@ -618,6 +625,11 @@ export class PreviewSession {
 
   private postFrame(run: LiveRun, frame: StoredFrame): void {
     const name = this.shownField && frame.fields[this.shownField] ? this.shownField : run.started.field;
+    const wrt = this.derivative && frame.fields[sensitivityKey(name, this.derivative)] ? this.derivative : null;
+    if (wrt) {
+      this.postDerivativeFrame(run, frame, name, wrt);
+      return;
+    }
     const snap = frame.fields[name];
     if (!snap) return;
     // At full size the stored Float32 snapshot is posted as it is (posting copies it); otherwise it is averaged down.
@@ -636,6 +648,23 @@ export class PreviewSession {
       width: small.width, height: small.height, data: small.data, stats: { min: st.min, max: st.max, mean: st.mean },
       psnr: typeof frame.stats.psnr === 'number' && name === run.started.field ? frame.stats.psnr : null,
       ...(rgb && rgb[0] && rgb[1] && rgb[2] ? { colour: { red: rgb[0], green: rgb[1], blue: rgb[2] } } : {}),
+    });
+  }
+
+  /** A frame of ∂name/∂wrt, computed in the engine worker; its stats are the derivative's own. */
+  private postDerivativeFrame(run: LiveRun, frame: StoredFrame, name: string, wrt: string): void {
+    const snap = frame.fields[sensitivityKey(name, wrt)];
+    const small = run.shrink === 1 && snap.data instanceof Float32Array ? { width: snap.width, height: snap.height, data: snap.data } : downsample(snap, run.shrink);
+    let min = Infinity, max = -Infinity, sum = 0;
+    for (let i = 0; i < snap.data.length; i++) {
+      const v = snap.data[i];
+      if (v < min) min = v;
+      if (v > max) max = v;
+      sum += v;
+    }
+    this.env.post({
+      type: 'frame', source: this.env.source, runId: run.runId, field: name, step: frame.step, t: frame.t,
+      width: small.width, height: small.height, data: small.data, stats: { min, max, mean: sum / snap.data.length }, psnr: null, wrt,
     });
   }
 
@@ -825,6 +854,16 @@ export class PreviewSession {
       case 'fitKnobs':
         await this.fitKnobs(msg.names);
         return;
+      case 'showDerivative': {
+        const s = this.good?.scheme;
+        if (!s || (msg.name !== null && msg.name !== 'dt' && !s.params.some((p) => p.name === msg.name))) return;
+        if (msg.name === this.derivative) return;
+        // Tangents start at step 0, so the run starts again with (or without) them.
+        this.derivative = msg.name;
+        this.postScheme();
+        this.startRun();
+        return;
+      }
     }
   }
 

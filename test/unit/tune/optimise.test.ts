@@ -1,6 +1,6 @@
 // Unit tests for the bounded minimisers of src/tune/optimise.ts on functions whose minima are known in closed form.
 import { describe, expect, it } from 'vitest';
-import { goldenSection, nelderMead, type BatchObjective } from '../../../src/tune/optimise';
+import { goldenSection, nelderMead, projectedGradient, type BatchGradientObjective, type BatchObjective } from '../../../src/tune/optimise';
 
 /** Wraps a plain function as a batch objective and records every point it was asked about. */
 function objective(f: (x: number[]) => number) {
@@ -97,5 +97,74 @@ describe('goldenSection', () => {
   it('finds the minimum of |x − 1.7| (not differentiable there) on [0, 3]', async () => {
     const r = await goldenSection(objective(([x]) => Math.abs(x - 1.7)).batch, 0, 3, { xTolerance: 1e-5 });
     expect(Math.abs(r.x[0] - 1.7), `x = ${r.x[0]}`).toBeLessThan(1e-4);
+  });
+});
+
+/** A value-and-gradient objective from plain functions, recording every point asked about. */
+function gradObjective(f: (x: number[]) => number, g: (x: number[]) => number[]) {
+  const seen: number[][] = [];
+  const batch: BatchGradientObjective = async (points) => {
+    seen.push(...points.map((p) => p.slice()));
+    return points.map((p) => ({ f: f(p), g: g(p) }));
+  };
+  return { batch, seen };
+}
+
+const rosenbrockGrad = ([x, y]: number[]) => [-400 * x * (y - x * x) - 2 * (1 - x), 200 * (y - x * x)];
+
+describe('projectedGradient in a box (Bertsekas 1976, Armijo rule along the projection arc)', () => {
+  it('finds the interior minimum of a tilted, badly scaled quadratic', async () => {
+    // f = 50 (x − 0.3)² + (y + 0.2)² + 2 (x − 0.3)(y + 0.2): positive definite (50·1 > 1), minimum at (0.3, −0.2).
+    const f = ([x, y]: number[]) => 50 * (x - 0.3) ** 2 + (y + 0.2) ** 2 + 2 * (x - 0.3) * (y + 0.2);
+    const g = ([x, y]: number[]) => [100 * (x - 0.3) + 2 * (y + 0.2), 2 * (y + 0.2) + 2 * (x - 0.3)];
+    const { batch, seen } = gradObjective(f, g);
+    const r = await projectedGradient(batch, { lo: [-1, -1], hi: [1, 1] }, { start: [0.9, 0.9], gTolerance: 1e-9, xTolerance: 1e-12, maxEvaluations: 500 });
+    expect(Math.abs(r.x[0] - 0.3), `x = ${r.x[0]}`).toBeLessThan(1e-6);
+    expect(Math.abs(r.x[1] + 0.2), `y = ${r.x[1]}`).toBeLessThan(1e-6);
+    expect(r.stop).toBe('tolerance');
+    for (const p of seen) expect(Math.abs(p[0]) <= 1 && Math.abs(p[1]) <= 1, `point ${p}`).toBe(true);
+  });
+
+  it('puts a quadratic whose free minimum lies outside the box on the nearest corner, with a zero projected gradient', async () => {
+    // f = (x − 3)² + (y + 1)² on [0, 2]²: the box minimum is the projection (2, 0) (separable convex function).
+    const { batch } = gradObjective(([x, y]) => (x - 3) ** 2 + (y + 1) ** 2, ([x, y]) => [2 * (x - 3), 2 * (y + 1)]);
+    const r = await projectedGradient(batch, { lo: [0, 0], hi: [2, 2] }, { start: [1, 1] });
+    expect(r.x).toEqual([2, 0]);
+    expect(r.f).toBe(2);
+    expect(r.projectedGradient).toBe(0);
+    expect(r.stop).toBe('tolerance');
+  });
+
+  it('finds the Rosenbrock minimum (1, 1) from (-1.2, 1), and the constrained one (0.5, 0.25) when the box cuts x at 0.5', async () => {
+    // Rosenbrock 1960 (see above); the constrained minimum was worked by hand in the Nelder–Mead test.
+    const free = await projectedGradient(gradObjective(rosenbrock, rosenbrockGrad).batch, { lo: [-2, -1], hi: [2, 3] }, { start: [-1.2, 1], gTolerance: 1e-8, xTolerance: 1e-12, maxEvaluations: 5000 });
+    expect(Math.abs(free.x[0] - 1), `x = ${free.x[0]}`).toBeLessThan(1e-4);
+    expect(Math.abs(free.x[1] - 1), `y = ${free.x[1]}`).toBeLessThan(1e-4);
+    const cut = await projectedGradient(gradObjective(rosenbrock, rosenbrockGrad).batch, { lo: [-2, -1], hi: [0.5, 3] }, { start: [-1.2, 1], gTolerance: 1e-8, xTolerance: 1e-12, maxEvaluations: 5000 });
+    expect(cut.x[0]).toBe(0.5);
+    expect(Math.abs(cut.x[1] - 0.25), `y = ${cut.x[1]}`).toBeLessThan(1e-5);
+    expect(Math.abs(cut.f - 0.25)).toBeLessThan(1e-8);
+  });
+
+  it('never accepts a point that does not decrease f (Armijo), is deterministic, and stops at the evaluation limit', async () => {
+    const values: number[] = [];
+    const run = () => projectedGradient(async (ps) => ps.map((p) => {
+      const v = rosenbrock(p);
+      values.push(v);
+      return { f: v, g: rosenbrockGrad(p) };
+    }), { lo: [-2, -2], hi: [2, 2] }, { start: [-1.2, 1], maxEvaluations: 30 });
+    const a = await run();
+    const b = await run();
+    expect(a).toEqual(b);
+    expect(a.stop).toBe('max-evaluations');
+    expect(a.evaluations).toBe(30);
+    expect(a.f).toBeLessThan(rosenbrock([-1.2, 1]));
+    expect(a.f).toBe(Math.min(...values.slice(0, 30)));
+  });
+
+  it('treats a NaN value as the worst and backs off', async () => {
+    const { batch } = gradObjective(([x]) => (x > 0.8 ? Number.NaN : (x - 0.7) ** 2), ([x]) => [2 * (x - 0.7)]);
+    const r = await projectedGradient(batch, { lo: [0], hi: [1] }, { start: [0], gTolerance: 1e-9, xTolerance: 1e-12, maxEvaluations: 200 });
+    expect(Math.abs(r.x[0] - 0.7), `x = ${r.x[0]}`).toBeLessThan(1e-6);
   });
 });
