@@ -56,7 +56,7 @@ async function exists(uri: vscode.Uri): Promise<boolean> {
 }
 
 /** Writes `bytes` to a temporary file beside `target` and renames it over, so `target` changes only on success. */
-async function writeAtomically(target: vscode.Uri, bytes: Uint8Array, replace: boolean): Promise<void> {
+export async function writeAtomically(target: vscode.Uri, bytes: Uint8Array, replace: boolean): Promise<void> {
   const name = target.path.slice(target.path.lastIndexOf('/') + 1);
   const tmp = target.with({ path: `${target.path.slice(0, target.path.lastIndexOf('/'))}/.${name}.${Date.now().toString(36)}${Math.random().toString(36).slice(2, 8)}.tmp` });
   try {
