@@ -65,7 +65,7 @@ export const line: fc.Arbitrary<string> = fc.oneof(
 );
 
 /** A skeleton that checks clean on its own, so that added lines are tried on schemes that reach analysis and compile. */
-const skeleton = fc.constantFrom(
+const skeleton: fc.Arbitrary<readonly string[]> = fc.constantFrom<readonly string[]>(
   ['grid 2d', 'step dt = 0.1', 'steps 3', 'field u = image', 'param K = 0.5 in [0, 1]'],
   ['grid 2d', 'boundary periodic', 'step dt = 0.2', 'steps 2', 'field u = image', 'field v = 0.5'],
   ['grid 1d', 'spacing 0.5', 'step dt = 0.01', 'until t = 0.03', 'field u = image'],
