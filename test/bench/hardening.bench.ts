@@ -96,9 +96,33 @@ async function restart(): Promise<void> {
   console.log(line('edit to restarted run, heavy steps (1024×1024, worker terminated)', heavyTimes));
 }
 
+/** Where a restart's time goes: a fresh worker's first frame for a tiny and a large picture, with and without the 'auto' monitor decision. */
+async function breakdown(): Promise<void> {
+  const scheme = (text: string) => parseAndCheck(text).scheme as NonNullable<ReturnType<typeof parseAndCheck>['scheme']>;
+  const heavy = scheme(`grid 2d\nboundary reflect\nparam K = 0.01\nstep dt = 0.1\nsteps 1000000000\nfield u = image\nlet w = blur(u, 6)\nu' = u + dt * K * (w - u)\n`);
+  const first = async (n: number, auto: boolean) => {
+    const w = new EngineWorker({ script: join(root, 'dist/engine-worker.js') });
+    const image = { width: n, height: n, data: new Float32Array(n * n).fill(0.5) };
+    const t0 = performance.now();
+    let ms = NaN;
+    const h = w.start({ scheme: heavy }, { image, params: { K: 0.01 }, dt: 0.1, every: 1e8, monitors: { extremumCheck: auto ? 'auto' : false }, backend: 'auto' } as never, {
+      onFrame: () => { if (Number.isNaN(ms)) { ms = performance.now() - t0; h.cancel(); } },
+    });
+    await h.done.catch(() => undefined);
+    await w.terminate();
+    return ms;
+  };
+  for (const [n, auto] of [[16, false], [1024, false], [1024, true]] as const) {
+    const ts: number[] = [];
+    for (let k = 0; k < 5; k++) ts.push(await first(n, auto));
+    console.log(`fresh worker to first frame, ${n}×${n}, monitor decision ${auto ? 'auto (analysis in the worker)' : 'off'}: median ${median(ts).toFixed(0)} ms`);
+  }
+}
+
 async function main(): Promise<void> {
   notation();
   await restart();
+  await breakdown();
 }
 
 main().then(() => process.exit(0), (e) => { console.error(e); process.exit(1); });

@@ -21,7 +21,7 @@ const HANG_MS = 5000;
 const LIMIT_MS = 100;
 const known = new Set(Object.keys(CODES));
 
-interface Tally { cases: number; failures: string[]; checked: number; compiled: number; refused: number; slowest: number; over: number; slowestText: string }
+interface Tally { codes: Set<string>; cases: number; failures: string[]; checked: number; compiled: number; refused: number; slowest: number; over: number; slowestText: string }
 
 /** One case: everything a keystroke in the editor triggers, timed. Returns the failures found. */
 function exercise(text: string, t: Tally): void {
@@ -30,6 +30,7 @@ function exercise(text: string, t: Tally): void {
   try {
     const r = parseAndCheck(text);
     for (const d of r.diagnostics) {
+      t.codes.add(d.code);
       const p = rangeProblem(text, d);
       if (p) fail(`diagnostic ${d.code}: ${p}`);
       if (!known.has(d.code)) fail(`unknown code ${d.code}`);
@@ -60,7 +61,7 @@ function exercise(text: string, t: Tally): void {
   t.cases++;
 }
 
-const tally = (): Tally => ({ cases: 0, failures: [], checked: 0, compiled: 0, refused: 0, slowest: 0, over: 0, slowestText: '' });
+const tally = (): Tally => ({ codes: new Set(), cases: 0, failures: [], checked: 0, compiled: 0, refused: 0, slowest: 0, over: 0, slowestText: '' });
 
 describe('campaign notation-property', () => {
   it('parser, checker, analysis and compiler never throw and give ranged diagnostics on generated and mutated schemes', () => {
@@ -74,8 +75,9 @@ describe('campaign notation-property', () => {
       exercise(text, long);
     }), { numRuns: scaled(1000), seed: seed + 1, endOnFailure: true });
     const failures = [...small.failures, ...long.failures];
+    const reached = new Set([...small.codes, ...long.codes].filter((c) => known.has(c)));
     report('notation-property', small.cases + long.cases, failures.length,
-      `${small.checked + long.checked} checked clean, ${small.compiled + long.compiled} compiled, ${small.refused + long.refused} refused by the compiler, ` +
+      `${reached.size}/${known.size} checker codes reached, ${small.checked + long.checked} checked clean, ${small.compiled + long.compiled} compiled, ${small.refused + long.refused} refused by the compiler, ` +
       `200-line inputs: ${long.cases}, slowest ${long.slowest.toFixed(1)} ms, ${long.over} over ${LIMIT_MS} ms; slowest small ${small.slowest.toFixed(1)} ms`);
     expect(failures.slice(0, 5)).toEqual([]);
     // The generators must reach analysis and compile on a real share of cases, not only the error paths.
