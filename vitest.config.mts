@@ -8,6 +8,9 @@ import { defineConfig } from 'vitest/config';
 const EXCLUDE = ['test/editor/**', 'node_modules/**', 'dist/**'];
 const HARDENING = 'test/hardening/**';
 const fakeVscode = fileURLToPath(new URL('./test/hardening/fakeVscode.ts', import.meta.url));
+/** The long campaign runs (FLUXEL_CAMPAIGN_SCALE=10) get proportionally longer hang guards. */
+const scale = Math.max(1, Number(process.env.FLUXEL_CAMPAIGN_SCALE) || 1);
+const campaignTimeout = 300_000 * scale;
 
 export default defineConfig({
   test: {
@@ -26,12 +29,12 @@ export default defineConfig({
       {
         extends: true,
         resolve: { alias: { vscode: fakeVscode } },
-        test: { name: 'hardening', include: ['test/hardening/**/*.test.ts'], exclude: [...EXCLUDE, 'test/**/*.serial.test.ts'], maxWorkers: 2, sequence: { groupOrder: 0 } },
+        test: { name: 'hardening', testTimeout: campaignTimeout, include: ['test/hardening/**/*.test.ts'], exclude: [...EXCLUDE, 'test/**/*.serial.test.ts'], maxWorkers: 2, sequence: { groupOrder: 0 } },
       },
       {
         extends: true,
         resolve: { alias: { vscode: fakeVscode } },
-        test: { name: 'hardening-serial', include: ['test/hardening/**/*.serial.test.ts'], exclude: EXCLUDE, maxWorkers: 1, fileParallelism: false, sequence: { groupOrder: 1 } },
+        test: { name: 'hardening-serial', testTimeout: campaignTimeout, include: ['test/hardening/**/*.serial.test.ts'], exclude: EXCLUDE, maxWorkers: 1, fileParallelism: false, sequence: { groupOrder: 1 } },
       },
     ],
   },

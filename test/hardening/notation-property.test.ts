@@ -13,6 +13,7 @@ import { generateSource } from '../../src/engine/codegen';
 import { JsBackend } from '../../src/engine/jsBackend';
 import { EngineError } from '../../src/engine/plan';
 import { parseAndCheck } from '../../src/notation';
+import { walkExpr, type Decl, type Expr } from '../../src/notation/ast';
 import { CODES } from '../../src/notation/diagnostics';
 import { campaignSeed, rangeProblem, report, scaled } from './campaign';
 import { longScheme, smallScheme } from './schemeGen';
@@ -21,7 +22,21 @@ const HANG_MS = 5000;
 const LIMIT_MS = 100;
 const known = new Set(Object.keys(CODES));
 
-interface Tally { codes: Set<string>; cases: number; failures: string[]; checked: number; compiled: number; refused: number; slowest: number; over: number; slowestText: string }
+interface Tally { kinds: Set<string>; codes: Set<string>; cases: number; failures: string[]; checked: number; compiled: number; refused: number; slowest: number; over: number; slowestText: string }
+
+const ALL_KINDS = ['grid', 'spacing', 'boundary', 'param', 'step', 'steps', 'until', 'field', 'function', 'let', 'neighbours', 'update']
+  .map((k) => `decl:${k}`).concat(['number', 'name', 'access', 'unary', 'binary', 'if', 'reduce', 'call', 'error'].map((k) => `expr:${k}`));
+
+function nodeKinds(decls: readonly Decl[], into: Set<string>): void {
+  const expr = (e: Expr) => walkExpr(e, (x) => into.add(`expr:${x.kind}`));
+  for (const d of decls) {
+    into.add(`decl:${d.kind}`);
+    if (d.kind === 'field' && d.init?.kind === 'expr') expr(d.init.expr);
+    if (d.kind === 'function') expr(d.body);
+    if (d.kind === 'let' || d.kind === 'update') expr(d.expr);
+    if (d.kind === 'neighbours') for (const o of d.offsets) o.components.forEach(expr);
+  }
+}
 
 /** One case: everything a keystroke in the editor triggers, timed. Returns the failures found. */
 function exercise(text: string, t: Tally): void {
@@ -29,6 +44,7 @@ function exercise(text: string, t: Tally): void {
   const t0 = performance.now();
   try {
     const r = parseAndCheck(text);
+    nodeKinds(r.program.decls, t.kinds);
     for (const d of r.diagnostics) {
       t.codes.add(d.code);
       const p = rangeProblem(text, d);
@@ -61,7 +77,7 @@ function exercise(text: string, t: Tally): void {
   t.cases++;
 }
 
-const tally = (): Tally => ({ codes: new Set(), cases: 0, failures: [], checked: 0, compiled: 0, refused: 0, slowest: 0, over: 0, slowestText: '' });
+const tally = (): Tally => ({ kinds: new Set(), codes: new Set(), cases: 0, failures: [], checked: 0, compiled: 0, refused: 0, slowest: 0, over: 0, slowestText: '' });
 
 describe('campaign notation-property', () => {
   it('parser, checker, analysis and compiler never throw and give ranged diagnostics on generated and mutated schemes', () => {
@@ -75,11 +91,17 @@ describe('campaign notation-property', () => {
       exercise(text, long);
     }), { numRuns: scaled(1000), seed: seed + 1, endOnFailure: true });
     const failures = [...small.failures, ...long.failures];
+    console.log(`slowest small case (${small.slowest.toFixed(1)} ms): ${JSON.stringify(small.slowestText.slice(0, 300))}`);
+    console.log(`slowest 200-line case (${long.slowest.toFixed(1)} ms): ${JSON.stringify(long.slowestText.slice(0, 300))}`);
     const reached = new Set([...small.codes, ...long.codes].filter((c) => known.has(c)));
+    const kinds = new Set([...small.kinds, ...long.kinds]);
     report('notation-property', small.cases + long.cases, failures.length,
-      `${reached.size}/${known.size} checker codes reached, ${small.checked + long.checked} checked clean, ${small.compiled + long.compiled} compiled, ${small.refused + long.refused} refused by the compiler, ` +
+      `${reached.size}/${known.size} checker codes and ${ALL_KINDS.filter((k) => kinds.has(k)).length}/${ALL_KINDS.length} node kinds reached, ${small.checked + long.checked} checked clean, ${small.compiled + long.compiled} compiled, ${small.refused + long.refused} refused by the compiler, ` +
       `200-line inputs: ${long.cases}, slowest ${long.slowest.toFixed(1)} ms, ${long.over} over ${LIMIT_MS} ms; slowest small ${small.slowest.toFixed(1)} ms`);
     expect(failures.slice(0, 5)).toEqual([]);
+    // Coverage (contracts.md §7): every diagnostic code and every AST node kind reached at least once.
+    expect([...known].filter((c) => !reached.has(c)), 'codes never reached').toEqual([]);
+    expect(ALL_KINDS.filter((k) => !kinds.has(k)), 'node kinds never reached').toEqual([]);
     // The generators must reach analysis and compile on a real share of cases, not only the error paths.
     expect(small.checked).toBeGreaterThan(small.cases / 20);
     expect(long.checked).toBeGreaterThan(long.cases / 20);

@@ -3,6 +3,7 @@
 // and the edits a user makes while typing (deleted, duplicated and inserted characters and tokens, cut-off lines).
 
 import fc from 'fast-check';
+import { CASES } from '../unit/notation/cases';
 
 /** Names: plain ones the skeleton declares, near-misses, built-ins, words of the notation and hostile spellings. */
 export const NAMES = ['u', 'v', 'w', 'K', 'lam', 'g', 'f', 'q', 'n', 'm', 'x', 'y', 't', 'h', 'dt', 'pi', 'abs', 'blur', 'len',
@@ -132,6 +133,8 @@ export const smallScheme: fc.Arbitrary<string> = fc.oneof(
       return muts.reduce(applyMutation, lines.join('\n'));
     }),
   fc.tuple(validScheme, fc.array(mutation, { maxLength: 1 })).map(([s, muts]) => muts.reduce(applyMutation, s)),
+  // The checker's own cases (one per diagnostic code), edited: every code stays within reach.
+  fc.tuple(fc.constantFrom(...CASES.map((c) => c[1])), fc.array(mutation, { maxLength: 2 })).map(([s, muts]) => muts.reduce(applyMutation, s)),
 );
 
 /** A 200-line scheme: the skeleton, a chain of lets and functions, comments and random lines, updates, typing edits. */
