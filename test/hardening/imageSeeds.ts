@@ -2,6 +2,7 @@
 // baseline JPEG (jpeg-js' encoder), TIFF 32-bit float (our writer) and 8-bit RGB (utif2's writer), PGM P5 8/16-bit
 // and P2, PFM grey and colour; and files whose headers claim enormous sizes, one per format.
 
+import { spawnSync } from 'node:child_process';
 import { encode as encodeJpeg } from 'jpeg-js';
 import { PNG } from 'pngjs';
 import * as UTIF from 'utif2';
@@ -64,6 +65,27 @@ export function seedFiles(): { name: string; bytes: Uint8Array }[] {
     { name: 'pfm-grey', bytes: encodeImage(img, 'pfm') },
     { name: 'pfm-colour', bytes: pfColour },
   ];
+}
+
+/**
+ * Compressed TIFFs written by another library: Pillow (Debian's /usr/bin/python3, python3-pil) with LZW, PackBits and
+ * Deflate, 8-bit grey. Empty when that interpreter or Pillow is missing (all-layers.sh installs both).
+ */
+export function pillowSeeds(): { name: string; bytes: Uint8Array }[] {
+  const script = [
+    'import io, sys, base64',
+    'from PIL import Image',
+    'im = Image.new("L", (24, 16))',
+    'im.putdata([(x * 9 + y * 5 + (40 if (x - 12) ** 2 + (y - 8) ** 2 < 25 else 0)) % 256 for y in range(16) for x in range(24)])',
+    'for c in ("tiff_lzw", "packbits", "tiff_adobe_deflate"):',
+    '    b = io.BytesIO(); im.save(b, format="TIFF", compression=c); print(c, base64.b64encode(b.getvalue()).decode())',
+  ].join('\n');
+  const r = spawnSync('/usr/bin/python3', ['-c', script], { encoding: 'utf8' });
+  if (r.status !== 0) return [];
+  return r.stdout.trim().split('\n').map((l) => {
+    const [name, b64] = l.split(' ');
+    return { name: `tiff-${name}`, bytes: new Uint8Array(Buffer.from(b64, 'base64')) };
+  });
 }
 
 /** Files (a few hundred bytes) whose headers claim `width` × `height` pixels, with little or no pixel data behind. */

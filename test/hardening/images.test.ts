@@ -1,15 +1,16 @@
 // Campaign "image-fuzz": truncated, bit-flipped, overwritten, spliced and shortened files of every format we read
-// (PNG, JPEG, TIFF, PGM, PFM), and headers claiming enormous sizes. Every file either decodes to a consistent image
+// (PNG, JPEG, TIFF with and without LZW/PackBits/Deflate, PGM, PFM), and headers claiming enormous sizes. Every file either decodes to a consistent image
 // or throws the project's ImageError with a message; any other exception (a TypeError or RangeError from inside a
 // codec library) is a failure. Memory: the growth of external memory (ArrayBuffers) during one decode is measured and
 // must stay under a bound proportional to the pixel limit; headers over the limit must be refused before any pixel
 // buffer exists. Formats: PNG (W3C/ISO 15948), JPEG (ITU-T T.81), TIFF 6.0 (Adobe 1992), Netpbm pgm(5) and PFM.
 
+import { appendFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { decodeImage, readImageSize } from '../../src/images/codec';
 import { DEFAULT_MAX_PIXELS, ImageError } from '../../src/images/types';
 import { campaignSeed, report, rng, scaled } from './campaign';
-import { claimingFiles, seedFiles } from './imageSeeds';
+import { claimingFiles, pillowSeeds, seedFiles } from './imageSeeds';
 
 const HANG_MS = 5000;
 /** The campaign's pixel limit, and the external memory one decode may add: 64 bytes per allowed pixel. */
@@ -80,9 +81,10 @@ function mutateBytes(src: Uint8Array, r: () => number): { bytes: Uint8Array; how
 }
 
 describe('campaign image-fuzz', () => {
-  const seeds = seedFiles();
+  const seeds = [...seedFiles(), ...pillowSeeds()];
 
   it('every seed file decodes (the mutations start from valid files of every format)', () => {
+    expect(seeds.map((s) => s.name)).toEqual(expect.arrayContaining(['tiff-tiff_lzw', 'tiff-packbits', 'tiff-tiff_adobe_deflate']));
     for (const s of seeds) expect(tryDecode(s.bytes, MAX_PIXELS).outcome, s.name).toEqual({ kind: 'ok' });
   });
 
@@ -95,6 +97,7 @@ describe('campaign image-fuzz', () => {
     for (const s of seeds) {
       for (let k = 0; k < perSeed; k++) {
         const { bytes, how } = mutateBytes(s.bytes, r);
+        if (process.env.FLUXEL_CAMPAIGN_TRACE) appendFileSync(process.env.FLUXEL_CAMPAIGN_TRACE, `${s.name} ${k} ${how}\n`);
         const { outcome, grew, ms } = tryDecode(bytes, MAX_PIXELS);
         cases++;
         maxGrew = Math.max(maxGrew, grew);

@@ -1,14 +1,15 @@
 // Minimised cases the image-fuzz campaign (test/hardening/images.test.ts) found, kept as regular unit tests:
 // a PNG whose image data is shorter than its header's size (pngjs filled the rest with zeros and allocated the whole
 // image), an interlaced PNG whose data inflates far beyond its size (pngjs inflates interlaced files without a limit),
-// a JPEG and a 16-bit PGM whose headers claim millions of pixels over a few bytes (allocated before the refusal).
+// a JPEG and a 16-bit PGM whose headers claim millions of pixels over a few bytes (allocated before the refusal),
+// and an uncompressed TIFF whose Compression tag was flipped to LZW (utif2's LZW decoder looped forever on it).
 // Formats: PNG (W3C/ISO 15948 sections 7.2, 8.2, 11.2.2), JPEG (ITU-T T.81), Netpbm pgm(5).
 
 import { deflateSync } from 'node:zlib';
 import { describe, expect, it } from 'vitest';
 import { decodeImage } from '../../../src/images/codec';
 import { ImageError } from '../../../src/images/types';
-import { claimingFiles } from '../../hardening/imageSeeds';
+import { claimingFiles, seedFiles } from '../../hardening/imageSeeds';
 import { chunk, concat, PNG_SIGNATURE } from './helpers';
 
 function refusal(bytes: Uint8Array): ImageError {
@@ -58,5 +59,17 @@ describe('hostile image files', () => {
     expect(pgm.message).toMatch(/needs 33554432 sample bytes, file has 4/);
     const plain = refusal(files.get('pgm-p2') as Uint8Array);
     expect(plain.message).toMatch(/needs at least 33554431 sample bytes/);
+  });
+
+  it('a TIFF whose strip is not a valid LZW stream is refused instead of hanging the decoder', () => {
+    // The 8-bit RGB seed (uncompressed strips) with its Compression tag (259) set to 5, LZW (TIFF 6.0 section 13).
+    const tiff = (seedFiles().find((f) => f.name === 'tiff-rgb8') as { bytes: Uint8Array }).bytes.slice();
+    const v = new DataView(tiff.buffer);
+    const le = tiff[0] === 0x49;
+    const ifd = v.getUint32(4, le);
+    for (let k = 0; k < v.getUint16(ifd, le); k++) if (v.getUint16(ifd + 2 + 12 * k, le) === 259) v.setUint16(ifd + 2 + 12 * k + 8, 5, le);
+    const e = refusal(tiff);
+    expect(e.code).toBe('broken');
+    expect(e.message).toMatch(/TIFF: strip 0 is not a valid LZW stream \(code \d+ near byte \d+: only codes up to \d+ are defined\)/);
   });
 });
