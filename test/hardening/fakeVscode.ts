@@ -136,7 +136,10 @@ export const window = {
 
 /** A webview panel: records the page and posted messages; `send` plays the webview posting a message to the host. */
 export class FakePanel {
+  /** The most recent messages the host posted (a long session would otherwise keep every frame alive). */
   readonly posted: unknown[] = [];
+  /** How many messages of each type the host posted in all. */
+  readonly counts = new Map<string, number>();
   visible = true;
   active = true;
   title = '';
@@ -152,7 +155,13 @@ export class FakePanel {
     cspSource: 'https://file+.vscode-resource.vscode-cdn.net',
     asWebviewUri: (u: Uri) => Uri.parse(`https://file+.vscode-resource.vscode-cdn.net${u.path}`),
     onDidReceiveMessage: this.receive.event,
-    postMessage: async (m: unknown) => { this.posted.push(m); return true; },
+    postMessage: async (m: unknown) => {
+      const type = String((m as { type?: unknown })?.type);
+      this.counts.set(type, (this.counts.get(type) ?? 0) + 1);
+      this.posted.push(m);
+      if (this.posted.length > 400) this.posted.splice(0, 200);
+      return true;
+    },
   };
   readonly onDidDispose = this.disposed.event;
   readonly onDidChangeViewState = this.viewState.event;

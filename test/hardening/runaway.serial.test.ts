@@ -11,7 +11,7 @@ import { createRun } from '../../src/engine/run';
 import { EngineError } from '../../src/engine/plan';
 import { EngineWorker } from '../../src/engine/worker/workerClient';
 import { AnalysisClient } from '../../src/extension/preview/analysisClient';
-import { PreviewSession } from '../../src/extension/preview/session';
+import { LONG_FIRST_STEP_MS, PreviewSession } from '../../src/extension/preview/session';
 import { parseAndCheck } from '../../src/notation';
 import type { ToPreview } from '../../src/protocol/preview';
 import { report, scaled } from './campaign';
@@ -139,7 +139,9 @@ describe('campaign runaway', () => {
         await next((m) => m.type === 'frame' && m.runId > lastRun);
         await new Promise((r) => setTimeout(r, 300));
       }
-      await new Promise((r) => setTimeout(r, 300)); // let the run get going between edits
+      // Let the run get going between edits: light runs are edited within LONG_FIRST_STEP_MS (cancelled through the
+      // shared flag, the worker kept), heavy ones after it (the worker is terminated and a new one started).
+      await new Promise((r) => setTimeout(r, text === light ? 150 : 300));
       const before = posted.length;
       const t0 = performance.now();
       session.documentChanged(text(k));
@@ -160,7 +162,7 @@ describe('campaign runaway', () => {
       return `median ${(ts[Math.floor(ts.length / 2)] ?? NaN).toFixed(0)} ms, slowest ${(ts.at(-1) ?? NaN).toFixed(0)} ms, ${ts.filter((t) => t > 200).length} of ${ts.length} over 200 ms`;
     };
     report('runaway-restart', edits, failures.length,
-      `edit to the new run's first frame, light steps (cancel flag): ${describeTimes(times)}; heavy steps (worker terminated and respawned): ${describeTimes(heavyTimes)}; ${engines} workers started`);
+      `edit to the new run's first frame, light steps (256×256, edited within ${LONG_FIRST_STEP_MS} ms): ${describeTimes(times)}; heavy steps (1024×1024, edited after it): ${describeTimes(heavyTimes)}; ${engines} workers started in all`);
     expect(engines).toBeGreaterThan(1);
     expect(failures).toEqual([]);
   });

@@ -62,7 +62,7 @@ describe('campaign soak', () => {
       });
       const session = await live.sessionReady();
       expect(session).not.toBeNull();
-      const ended = () => panel.posted.filter((m) => (m as { type: string }).type === 'runEnded').length;
+      const ended = () => panel.counts.get('runEnded') ?? 0;
       const waitEnded = async (n: number, ms = 20_000) => { const t0 = Date.now(); while (ended() < n && Date.now() - t0 < ms) await sleep(20); };
       await waitEnded(1);
 
@@ -114,8 +114,8 @@ describe('campaign soak', () => {
       const heap = process.memoryUsage().heapUsed;
       const workersAfter = liveEngines();
       const threadsAfter = osThreads();
-      const frames = panel.posted.filter((m) => (m as { type: string }).type === 'frame').length;
-      const runs = panel.posted.filter((m) => (m as { type: string }).type === 'runStarted').length;
+      const frames = panel.counts.get('frame') ?? 0;
+      const runs = panel.counts.get('runStarted') ?? 0;
 
       live.dispose();
       await sleep(300);
