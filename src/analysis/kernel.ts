@@ -92,11 +92,14 @@ export interface ImpulseResponse {
   readonly truncated: boolean;
 }
 
+/** The most cell updates (steps × cells × stencil entries) an impulse response may take: about a second. */
+export const MAX_IMPULSE_WORK = 1e9;
+
 /**
  * Applies a linear constant-coefficient scheme `steps` times to a unit impulse in `field` (other fields zero)
  * on an unbounded grid, exactly, with the extracted stencil weights. Returns null for other schemes.
  */
-export function impulseResponse(scheme: CheckedScheme, steps: number, opts: { field?: string; maxRadius?: number } = {}): ImpulseResponse | null {
+export function impulseResponse(scheme: CheckedScheme, steps: number, opts: { field?: string; maxRadius?: number; maxWork?: number } = {}): ImpulseResponse | null {
   const w = linearStencil(scheme);
   if (!w) return null;
   const updated = scheme.fields.filter((f) => f.updated).map((f) => f.name);
@@ -109,6 +112,13 @@ export function impulseResponse(scheme: CheckedScheme, steps: number, opts: { fi
   const size = 2 * R + 1;
   const ny = scheme.dims === 2 ? size : 1;
   const cells = size * ny;
+  // Each step visits every cell once per stencil entry: a huge step count (`steps 1e9`) would keep the caller (the
+  // live run's analysis thread, `fluxel kernel`) busy for days, so it is refused with the reason instead.
+  const work = steps * cells * w.entries.length;
+  const maxWork = opts.maxWork ?? MAX_IMPULSE_WORK;
+  if (!(work <= maxWork)) {
+    throw new Error(`the impulse response of ${steps} steps would take about ${work.toExponential(1)} operations, more than the ${maxWork.toExponential(0)} allowed; ask for fewer steps (kernel --step N)`);
+  }
   let cur = updated.map(() => new Float64Array(cells));
   cur[fi][(scheme.dims === 2 ? R * size : 0) + R] = 1;
   for (let s = 0; s < steps; s++) {

@@ -85,6 +85,9 @@ function truthy(a: Dual): boolean {
   return a.v !== 0 && !Number.isNaN(a.v);
 }
 
+/** The most blur taps ((2r+1)² in 2d, 2r+1 in 1d) one evaluation of a blurred value may visit: σ ≤ 12 in 2d. */
+export const MAX_BLUR_TAPS = 10_000;
+
 /** Gaussian taps of numerics.md: exp(−k²/(2σ²)) for |k| ≤ ⌊4σ + 0.5⌋, normalised; σ = 0 is the identity. */
 export function gaussianTaps(sigma: number): Float64Array {
   if (!(sigma > 0)) return Float64Array.of(1);
@@ -197,7 +200,15 @@ export class SchemeEvaluator {
     } else {
       let taps = this.blurTaps.get(l.name);
       if (!taps) {
-        taps = gaussianTaps(this.eval(l.sigma, x, y, EMPTY_SCOPE, false).v);
+        const sigma = this.eval(l.sigma, x, y, EMPTY_SCOPE, false).v;
+        // Every evaluation of a blurred value visits all (2r+1)^dims taps with derivatives: a width far beyond the
+        // picture would keep the analysis busy for minutes (σ = 40 took seconds, σ = 1000 hours), so it stops here.
+        const r = sigma > 0 ? Math.floor(4 * sigma + 0.5) : 0;
+        const count = (2 * r + 1) ** this.scheme.dims;
+        if (!(count <= MAX_BLUR_TAPS)) {
+          throw new Error(`blur(${l.source}, ${sigma}) is too wide to analyse: its kernel has ${count} taps, the analysis evaluates at most ${MAX_BLUR_TAPS}`);
+        }
+        taps = gaussianTaps(sigma);
         this.blurTaps.set(l.name, taps);
       }
       r = this.blurAt(l.source, taps, x, y, grad);

@@ -16,7 +16,7 @@ import { defaultBackend } from './wasm/select';
 import { jsBackend } from './jsBackend';
 import { sensitivityKey, Tangents } from './sensitivity';
 import { extremumPrinciple, type ExtremumDecision } from './monitorPolicy';
-import { EngineError, planHalo, type HaloPlan } from './plan';
+import { blurRadius, EngineError, planHalo, type HaloPlan } from './plan';
 import type {
   CompiledScheme, DType, FieldArray, FieldStats, FrameStats, Geometry, KernelBackend, KernelContext, RunWarning, StopReason, WarningKind,
 } from './types';
@@ -119,6 +119,10 @@ export interface RunResult {
   /** The tolerance of the change rule, when the run had one. */
   readonly stopChange?: number;
 }
+
+/** Padded buffers may hold this many times the grid's values, or this many values, whichever is larger. */
+export const MAX_PAD_FACTOR = 16;
+export const MAX_PAD_CELLS = 1 << 22;
 
 const FLOAT32_EPS = 2 ** -23;
 const FLOAT64_EPS = 2 ** -52;
@@ -236,6 +240,16 @@ export class Run {
 
     this.halo = planHalo(scheme, values, this.dt);
     const g = makeGeometry(width, height, this.halo.halo, scheme.dims);
+    // A blur width or offsets far larger than the image would make the padded buffers (and the ghost filling of every
+    // step) enormous for nothing: refuse with the reason instead of allocating gigabytes or failing inside the runtime.
+    const cells = g.pw * g.ph;
+    if (!(cells <= Math.max(MAX_PAD_FACTOR * width * height, MAX_PAD_CELLS))) {
+      const why = this.halo.letSigmas.some((s) => s !== null && blurRadius(s) > 0) ? 'the blur width' : 'the neighbour offsets';
+      throw new EngineError(
+        `${why} needs a border of ${this.halo.halo} pixels around the ${width}×${height} grid, which makes buffers of ${g.pw}×${g.ph} values ` +
+        `(the limit is ${MAX_PAD_FACTOR} times the grid or ${MAX_PAD_CELLS} values); use a smaller blur width or a larger image`,
+      );
+    }
     this.geometry = g;
     // A backend may place the buffers itself (shared WebAssembly memory); at most: cur + next per field, lets, blur scratch.
     const pool = this.compiled.allocateBuffers?.(g, 2 * scheme.fields.length + scheme.lets.length + 1) ?? [];

@@ -9,6 +9,7 @@ import { LANGUAGE_ID } from './diagnostics';
 import type { SchemeRunner } from './runner';
 import { RUN_ONCE_COMMAND, SHOW_LOG_COMMAND } from './codeLens';
 import { SHOW_DETAILS_COMMAND } from './status';
+import { writeAtomically } from './exportCommand';
 
 export interface CommandContext {
   readonly manager: DiagnosticManager;
@@ -63,7 +64,9 @@ export function registerCommands(c: CommandContext): vscode.Disposable {
       const field = s.primary && s.outcome ? s.outcome.fields[s.primary] : undefined;
       if (!field) { void vscode.window.showErrorMessage(`Fluxel: ${s.line}`); return; }
       const bytes = core.encodeImage({ width: field.width, height: field.height, data: Float32Array.from(field.data) }, format);
-      await vscode.workspace.fs.writeFile(target, bytes);
+      // The save dialog asked before replacing; the frame goes to a temporary file that is renamed over the target,
+      // so an existing image is replaced only by a complete one.
+      await writeAtomically(target, bytes, true);
       c.output.appendLine(`wrote ${s.primary} to ${target.fsPath}`);
     }),
     reg('fluxel.showWeightsAtPixel', async (arg?: unknown) => {

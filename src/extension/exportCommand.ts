@@ -1,7 +1,8 @@
 // The "Export Scheme as Code…" command (fluxel.exportScheme): checks the active scheme, asks the target and the
 // storage type, builds the code from the document's current text (exportPlan.ts, loaded on first use) and writes
 // it next to the scheme through a temporary file and a rename, asking before it replaces an existing file; then
-// opens the result beside. Reads vscode members only inside the command, never at load time.
+// opens the result beside. Its temporary-file writer also serves Run Scheme to Image File (commands.ts).
+// Reads vscode members only inside the command, never at load time.
 
 import * as vscode from 'vscode';
 import type { Target } from '../export/index';
@@ -56,7 +57,7 @@ async function exists(uri: vscode.Uri): Promise<boolean> {
 }
 
 /** Writes `bytes` to a temporary file beside `target` and renames it over, so `target` changes only on success. */
-async function writeAtomically(target: vscode.Uri, bytes: Uint8Array, replace: boolean): Promise<void> {
+export async function writeAtomically(target: vscode.Uri, bytes: Uint8Array, replace: boolean): Promise<void> {
   const name = target.path.slice(target.path.lastIndexOf('/') + 1);
   const tmp = target.with({ path: `${target.path.slice(0, target.path.lastIndexOf('/'))}/.${name}.${Date.now().toString(36)}${Math.random().toString(36).slice(2, 8)}.tmp` });
   try {

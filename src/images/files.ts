@@ -1,6 +1,7 @@
 // Thin Node file I/O over codec.ts: read a file and decode it, encode and write by the output extension.
 // The only module in src/images that imports fs; it holds no format knowledge beyond the extension table.
 
+import { randomBytes } from 'node:crypto';
 import { promises as fs } from 'node:fs';
 import * as path from 'node:path';
 import { createHash } from 'node:crypto';
@@ -55,6 +56,8 @@ export async function writeImageFile(filePath: string, image: GreyImage, opts: E
   await writeFileAtomically(filePath, encodeImage(image, format, opts));
 }
 
+let tmpCounter = 0;
+
 /**
  * Writes bytes or text to a temporary file beside `filePath` and renames it over the target, so an existing file
  * is replaced only once the new content is complete. Missing parent folders are created (that destroys nothing).
@@ -62,7 +65,10 @@ export async function writeImageFile(filePath: string, image: GreyImage, opts: E
 export async function writeFileAtomically(filePath: string, data: Uint8Array | string): Promise<void> {
   const dir = path.dirname(filePath);
   await fs.mkdir(dir, { recursive: true });
-  const tmp = path.join(dir, `.${path.basename(filePath)}.${process.pid}.${Date.now().toString(36)}.tmp`);
+  // A counter and random bytes as well as the process and the time: two writes in the same millisecond (a sweep's
+  // outputs, or two saves of one file) must never share a temporary file, or one would rename the other's half.
+  const unique = `${process.pid}.${Date.now().toString(36)}.${(tmpCounter++).toString(36)}.${randomBytes(4).toString('hex')}`;
+  const tmp = path.join(dir, `.${path.basename(filePath)}.${unique}.tmp`);
   try {
     await fs.writeFile(tmp, data);
     await fs.rename(tmp, filePath);

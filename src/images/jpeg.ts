@@ -61,6 +61,14 @@ export function decodeJpeg(bytes: Uint8Array, h: JpegHeader, maxPixels: number):
     throw new ImageError('unsupported', `JPEG: ${h.components} colour components are not supported (grey or RGB only)`);
   }
   if (!hasEoi(bytes, h.afterSof)) throw new ImageError('broken', 'JPEG: no end-of-image marker (truncated file)');
+  // Every 8x8 block's DC coefficient takes a Huffman code of at least one bit in some scan (T.81, F.1.2.1 and G.1.2.1),
+  // so fewer bits after the frame header than blocks means a header claiming more pixels than the file holds;
+  // refused here, before jpeg-js allocates buffers for the claimed size.
+  const blocks = Math.ceil(h.width / 8) * Math.ceil(h.height / 8);
+  const bits = (bytes.length - h.afterSof) * 8;
+  if (bits < blocks) {
+    throw new ImageError('broken', `JPEG: ${bytes.length - h.afterSof} bytes of image data cannot hold the ${h.width}x${h.height} pixels the header claims (truncated file)`);
+  }
   let img: { width: number; height: number; data: Uint8Array };
   try {
     img = decodeJpegJs(bytes, {

@@ -61,6 +61,14 @@ export function decodePgm(bytes: Uint8Array, h: PgmHeader, maxPixels: number): R
   const what = h.plain ? 'PGM (P2)' : 'PGM (P5)';
   checkDimensions(h.width, h.height, maxPixels, what);
   const n = h.width * h.height;
+  // The sample bytes a file of this size can hold are checked before the samples are allocated: binary samples take
+  // 1 or 2 bytes each, plain ones at least a digit and a separator (one digit for the last).
+  const have = bytes.length - h.dataStart;
+  const bps = h.maxval < 256 ? 1 : 2;
+  const need = h.plain ? 2 * n - 1 : n * bps;
+  if (have < need) {
+    throw new ImageError('broken', `${what}: needs ${h.plain ? 'at least ' : ''}${need} sample bytes, file has ${have} (truncated file)`);
+  }
   const samples = h.maxval < 256 ? new Uint8Array(n) : new Uint16Array(n);
   if (h.plain) {
     let i = h.dataStart;
@@ -81,10 +89,6 @@ export function decodePgm(bytes: Uint8Array, h: PgmHeader, maxPixels: number): R
       samples[k] = v;
     }
   } else {
-    const bps = h.maxval < 256 ? 1 : 2;
-    if (bytes.length - h.dataStart < n * bps) {
-      throw new ImageError('broken', `${what}: needs ${n * bps} sample bytes, file has ${bytes.length - h.dataStart} (truncated file)`);
-    }
     let p = h.dataStart;
     for (let k = 0; k < n; k++) {
       // Two-byte samples are big-endian (most significant byte first), per pgm(5).

@@ -1,6 +1,7 @@
 // Reads PNG (all bit depths and colour types) through pngjs and writes 8/16-bit grey or RGB PNG.
 // Pure: Uint8Array in and out; must not import fs or other codecs. pngjs itself uses Node's zlib.
 
+import { inflateSync } from 'node:zlib';
 import { PNG } from 'pngjs';
 import { GreyImage, ImageError } from './types';
 import { RawSamples, checkDimensions, quantise } from './values';
@@ -10,7 +11,12 @@ export interface PngHeader {
   height: number;
   bitDepth: number;
   colorType: number;
+  /** Interlace method: 0 none, 1 Adam7. */
+  interlace: number;
 }
+
+/** Samples per pixel of each colour type (PNG spec, section 11.2.2, table 11.1). */
+const CHANNELS: Record<number, number> = { 0: 1, 2: 3, 3: 1, 4: 2, 6: 4 };
 
 const PNG_COLOUR_TYPES = new Set([0, 2, 3, 4, 6]);
 
@@ -27,11 +33,54 @@ export function readPngHeader(bytes: Uint8Array): PngHeader {
   if (!PNG_COLOUR_TYPES.has(colorType) || ![1, 2, 4, 8, 16].includes(bitDepth)) {
     throw new ImageError('broken', `PNG: invalid colour type ${colorType} / bit depth ${bitDepth} in IHDR`);
   }
-  return { width, height, bitDepth, colorType };
+  return { width, height, bitDepth, colorType, interlace: bytes[28] };
+}
+
+/** Bytes of filtered scanlines the header implies (PNG spec sections 7.2 and 8.2: one filter byte per row, Adam7 passes). */
+function rawLength(h: PngHeader): number {
+  const bits = CHANNELS[h.colorType] * h.bitDepth;
+  const rows = (w: number, n: number): number => (w > 0 && n > 0 ? n * (1 + Math.ceil((w * bits) / 8)) : 0);
+  if (h.interlace !== 1) return rows(h.width, h.height);
+  // Adam7 passes: [x start, x step, y start, y step].
+  const passes = [[0, 8, 0, 8], [4, 8, 0, 8], [0, 4, 4, 8], [2, 4, 0, 4], [0, 2, 2, 4], [1, 2, 0, 2], [0, 1, 1, 2]];
+  return passes.reduce((sum, [x0, dx, y0, dy]) => sum + rows(Math.ceil((h.width - x0) / dx), Math.ceil((h.height - y0) / dy)), 0);
+}
+
+/**
+ * Inflates the IDAT stream once with the header's size as the output limit, before pngjs allocates the image: a stream
+ * that holds less than the header's pixels (pngjs would fill the rest with zeros) or more (pngjs inflates interlaced
+ * files without any limit, so a small file could expand to gigabytes) is refused as broken.
+ */
+function checkImageData(bytes: Uint8Array, h: PngHeader): void {
+  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  const parts: Uint8Array[] = [];
+  for (let i = 8; i + 8 <= bytes.length;) {
+    const len = view.getUint32(i);
+    const type = String.fromCharCode(bytes[i + 4], bytes[i + 5], bytes[i + 6], bytes[i + 7]);
+    if (i + 12 + len > bytes.length) throw new ImageError('broken', `PNG: chunk ${JSON.stringify(type)} runs past the end of the file (truncated file)`);
+    if (type === 'IDAT') parts.push(bytes.subarray(i + 8, i + 8 + len));
+    if (type === 'IEND') break;
+    i += 12 + len;
+  }
+  if (!parts.length) throw new ImageError('broken', 'PNG: no image data (IDAT chunk)');
+  const expected = rawLength(h);
+  let raw: Buffer;
+  try {
+    raw = inflateSync(Buffer.concat(parts), { maxOutputLength: expected });
+  } catch (e) {
+    if ((e as { code?: string }).code === 'ERR_BUFFER_TOO_LARGE') {
+      throw new ImageError('broken', `PNG: image data decompresses to more than the ${expected} bytes a ${h.width}x${h.height} image needs`);
+    }
+    throw new ImageError('broken', `PNG: image data cannot be decompressed (${(e as Error).message})`);
+  }
+  if (raw.length < expected) {
+    throw new ImageError('broken', `PNG: image data holds ${raw.length} of the ${expected} bytes a ${h.width}x${h.height} image needs (truncated file)`);
+  }
 }
 
 export function decodePng(bytes: Uint8Array, h: PngHeader, maxPixels: number): RawSamples {
   checkDimensions(h.width, h.height, maxPixels, 'PNG');
+  checkImageData(bytes, h);
   let png: { width: number; height: number; data: ArrayLike<number> };
   try {
     // skipRescale keeps samples at their stored depth (0..2^bits-1) instead of rescaling to 8 bits;

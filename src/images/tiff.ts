@@ -122,6 +122,8 @@ export function decodeTiff(bytes: Uint8Array, h: TiffHeader, maxPixels: number):
     throw new ImageError('broken', `TIFF: strips hold fewer bytes than ${h.width}x${h.height} pixels need (truncated file)`);
   }
 
+  if (compression === 5) offsets.forEach((off, i) => checkLzwStrip(bytes, off, counts[i], i));
+
   // utif2 wants the IFD as {tNNN: [values]} and reads strips from a whole-file ArrayBuffer (it uses absolute offsets).
   const ifd: Record<string, unknown> = {};
   for (const [tag, vals] of h.tags) ifd[`t${tag}`] = vals;
@@ -163,6 +165,48 @@ export function decodeTiff(bytes: Uint8Array, h: TiffHeader, maxPixels: number):
     // The first extra sample (ExtraSamples) is taken as alpha, as TIFF writers use it (common practice).
     ...(spp > (colour ? 3 : 1) ? { alpha: colour ? 3 : 1 } : {}),
   };
+}
+
+/**
+ * Walks one LZW strip's codes the way utif2's decoder reads them (TIFF 6.0 section 13: 9- to 12-bit codes, most
+ * significant bit first, Clear 256, EndOfInformation 257, the code width growing one code early) without decoding,
+ * and refuses a stream utif2 would loop on forever: its table entries must only point to earlier entries, so after a
+ * Clear the next code must be a literal, and every other code must be defined already or be the next one to define.
+ */
+function checkLzwStrip(bytes: Uint8Array, off: number, len: number, strip: number): void {
+  const CLEAR = 256, EOI = 257;
+  const end = (off + len) * 8;
+  let bit = off * 8;
+  let width = 9;
+  let next = 258;
+  const read = (): number => {
+    const i = bit >>> 3;
+    const word = ((bytes[i] ?? 0) << 16) | ((bytes[i + 1] ?? 0) << 8) | (bytes[i + 2] ?? 0);
+    const code = (word >>> (24 - (bit & 7) - width)) & ((1 << width) - 1);
+    bit += width;
+    return code;
+  };
+  const broken = (code: number, why: string): never => {
+    throw new ImageError('broken', `TIFF: strip ${strip} is not a valid LZW stream (code ${code} near byte ${bit >>> 3}: ${why})`);
+  };
+  while (bit < end) {
+    const code = read();
+    if (code === EOI) return;
+    if (code === CLEAR) {
+      width = 9;
+      next = 258;
+      const first = read();
+      if (first === EOI) return;
+      if (first > 255) broken(first, 'a Clear must be followed by a literal');
+      continue;
+    }
+    // Defined already (a literal or an entry below `next`), or the entry about to be defined (the KwKwK case).
+    if (code > next) broken(code, `only codes up to ${next} are defined`);
+    // Every other code defines one entry; the width grows one code early, up to 12 bits.
+    next++;
+    if (next + 1 === 1 << width && width !== 12) width++;
+    if (next > 4096) broken(code, 'the code table is full without a Clear');
+  }
 }
 
 /**

@@ -54,6 +54,14 @@ layer unit test/unit test/architecture
 layer reference test/reference
 layer cli test/cli
 
+# The hardening campaigns (fuzzing, hostile files, runaway schemes, soak, nothing lost, webview): each prints one
+# "campaign NAME: N cases, F failures, ..." line into test/out/campaigns.txt, shown here after the layer's count.
+# FLUXEL_CAMPAIGN_SCALE=10 runs the long versions (docs/reliability.md).
+rm -f "$OUT/campaigns.txt"
+layer hardening test/hardening
+say "campaigns"
+cat "$OUT/campaigns.txt" 2>/dev/null || echo "campaigns: no report written"
+
 # The real-editor layer: Chromium, Node 24 and code-server installed into a cache folder outside the tree
 # (test/tools/editor-install.sh), the .vsix packaged with vsce, the suite run in code-server; prints "editor: N passed, N failed".
 say "layer: editor"

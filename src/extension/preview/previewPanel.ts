@@ -91,7 +91,10 @@ export class LiveRunPanel extends Disposable {
     this._register(panel.onDidDispose(() => this.dispose()));
     this._register(panel.webview.onDidReceiveMessage((raw: unknown) => {
       const msg = validateFromPreview(raw);
-      if (!msg || msg.source !== document.toString()) return;
+      if (!msg || msg.source !== document.toString()) {
+        this.dropped(raw, msg ? 'it names another document' : 'it is not a valid live run message');
+        return;
+      }
       void this.ready.then(() => this.session?.handle(msg)).catch((err) => ctx.log(`live run: ${String(err)}`));
     }));
     this._register(panel.onDidChangeViewState(() => {
@@ -170,6 +173,22 @@ export class LiveRunPanel extends Disposable {
     const sel = new vscode.Selection(range.start.line - 1, range.start.column - 1, range.end.line - 1, range.end.column - 1);
     editor.selection = sel;
     editor.revealRange(sel, vscode.TextEditorRevealType.InCenterIfOutsideViewport);
+  }
+
+  private droppedCount = 0;
+
+  /** Logs a message from the page that was ignored (the first 20 in full, then every 100th), never acting on it. */
+  private dropped(raw: unknown, why: string): void {
+    this.droppedCount++;
+    if (this.droppedCount > 20 && this.droppedCount % 100 !== 0) return;
+    let text: string;
+    try {
+      text = JSON.stringify(raw) ?? String(raw);
+    } catch {
+      text = Object.prototype.toString.call(raw);
+    }
+    if (text.length > 200) text = `${text.slice(0, 200)}…`;
+    this.ctx.log(`live run: dropped a message from the page (${why}; ${this.droppedCount} so far): ${text}`);
   }
 
   /** For tests: the session once loaded. */

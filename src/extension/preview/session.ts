@@ -141,6 +141,9 @@ function storedKnobs(v: unknown): StoredKnobs | null {
   return { values, dt, declared, declaredDt: o.declaredDt };
 }
 
+/** How many monitor decisions (by scheme meaning and knob values) a session remembers, least recent dropped first. */
+export const MONITOR_MEMORY = 64;
+
 /** A step longer than this is "long": cancelling then terminates the worker instead of waiting (contracts §5). */
 export const LONG_STEP_MS = 40;
 /** Before any step has come back, set-up (compiling, the first step) may take this long before a cancel terminates. */
@@ -590,7 +593,10 @@ export class PreviewSession {
     // The static verdict and the impulse response come from the analysis thread, beside the run.
     this.env.analysis.verdict(g.text, knobs).then(
       (v) => {
+        // Bounded: a day of typing makes thousands of distinct schemes, and only recent ones come back.
+        this.extremumByKey.delete(monitorKey);
         this.extremumByKey.set(monitorKey, v.extremumCheck);
+        if (this.extremumByKey.size > MONITOR_MEMORY) this.extremumByKey.delete(this.extremumByKey.keys().next().value as string);
         run.verdict = { type: 'verdict', source: this.env.source, runId, verdict: v.verdict };
         if (this.run === run) this.env.post(run.verdict);
       },
