@@ -17,6 +17,7 @@ import { walkExpr, type Decl, type Expr } from '../../src/notation/ast';
 import { CODES } from '../../src/notation/diagnostics';
 import { campaignSeed, rangeProblem, report, scaled } from './campaign';
 import { longScheme, smallScheme } from './schemeGen';
+import { ALL_NODE_KINDS } from '../unit/notation/nodeKinds';
 
 const HANG_MS = 5000;
 const LIMIT_MS = 100;
@@ -24,8 +25,7 @@ const known = new Set(Object.keys(CODES));
 
 interface Tally { kinds: Set<string>; codes: Set<string>; cases: number; failures: string[]; checked: number; compiled: number; refused: number; slowest: number; over: number; slowestText: string }
 
-const ALL_KINDS = ['grid', 'spacing', 'boundary', 'param', 'step', 'steps', 'until', 'field', 'function', 'let', 'neighbours', 'update']
-  .map((k) => `decl:${k}`).concat(['number', 'name', 'access', 'unary', 'binary', 'if', 'reduce', 'call', 'error'].map((k) => `expr:${k}`));
+const ALL_KINDS = ALL_NODE_KINDS;
 
 function nodeKinds(decls: readonly Decl[], into: Set<string>): void {
   const expr = (e: Expr) => walkExpr(e, (x) => into.add(`expr:${x.kind}`));

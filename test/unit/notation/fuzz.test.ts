@@ -9,6 +9,7 @@ import { parseAndCheck } from '../../../src/notation';
 import { walkExpr, type Decl, type Expr } from '../../../src/notation/ast';
 import { CODES } from '../../../src/notation/diagnostics';
 import { CASES } from './cases';
+import { ALL_NODE_KINDS } from './nodeKinds';
 
 /** mulberry32: a small seeded generator, so every run mutates the same way. */
 function rng(seed: number): () => number {
@@ -95,9 +96,7 @@ describe('fuzz: parse and check never throw', () => {
     }
     // Coverage report (printed, then required).
     const missingCodes = [...known].filter((c) => !codes.has(c));
-    const allKinds = ['grid', 'spacing', 'boundary', 'param', 'step', 'steps', 'until', 'untilChange', 'field', 'function', 'let', 'neighbours', 'update']
-      .map((k) => `decl:${k}`)
-      .concat(['number', 'name', 'access', 'unary', 'binary', 'if', 'reduce', 'call', 'error'].map((k) => `expr:${k}`));
+    const allKinds = ALL_NODE_KINDS;
     const missingKinds = allKinds.filter((k) => !kinds.has(k));
     console.log(`fuzz coverage: ${codes.size}/${known.size} codes, ${allKinds.length - missingKinds.length}/${allKinds.length} node kinds over ${inputs.length} inputs`);
     expect(missingCodes, 'codes never reached').toEqual([]);
