@@ -173,9 +173,11 @@ export class Run {
   private readonly reference: RunImage | null;
   private readonly wantSsim: boolean;
   private readonly primary: number;
-  private readonly extremum: { lo: number; hi: number } | null;
-  /** Whether the new-extremum monitor runs, and why (from the analysis unless the caller forced it). */
-  readonly extremumDecision: ExtremumDecision;
+  /** The new-extremum bounds once decided (undefined: not yet; null: the monitor is off). */
+  private extremumBounds: { lo: number; hi: number } | null | undefined;
+  private decision: ExtremumDecision | null = null;
+  /** What deciding needs: the caller's stability report, if any, and the initial range with its slack. */
+  private readonly extremumInputs: { want: boolean | 'auto'; stability: StabilityReport | undefined; lo: number; hi: number };
   private readonly growthBound: number;
   private readonly warned = new Set<string>();
   private best: { step: number; psnr: number } | undefined;
@@ -304,15 +306,12 @@ export class Run {
     this.measures = opts.measures ?? true;
     const m = opts.monitors ?? {};
     const wantExtremum = m.extremumCheck ?? 'auto';
-    this.extremumDecision = wantExtremum === 'auto'
-      ? extremumPrinciple(scheme, m.stability)
-      : { applies: wantExtremum, reason: wantExtremum ? 'forced on by the caller' : 'turned off by the caller' };
-    if (this.extremumDecision.applies) {
+    {
       const l = m.initialMin ?? lo, h = m.initialMax ?? hi;
       // Rounding may overshoot by an ulp or two; 4 ulps of the data range is the agreed slack (numerics.md, "Monitors").
       const tol = 4 * ulpOf(Math.max(Math.abs(l), Math.abs(h)), this.dtype);
-      this.extremum = { lo: l - tol, hi: h + tol };
-    } else this.extremum = null;
+      this.extremumInputs = { want: wantExtremum, stability: m.stability, lo: l - tol, hi: h + tol };
+    }
     this.growthBound = m.growthBound ?? (m.growthFactor ?? 1e3) * Math.max(1, maxAbs);
 
     this.every = Math.max(0, Math.floor(opts.every ?? 0));
@@ -325,6 +324,27 @@ export class Run {
     // PSNR is measured on the field that holds the picture: the first image field, else the first updated one.
     const img = scheme.fields.findIndex(f => f.init.kind === 'image');
     this.primary = img >= 0 ? img : Math.max(0, scheme.fields.findIndex(f => f.updated));
+  }
+
+  /**
+   * Whether the new-extremum monitor runs, and why (from the analysis unless the caller forced it). Decided on first
+   * use, which is after the start frame: a live run shows its start picture without waiting for the analysis, and the
+   * decision still comes before the first step's values are checked, so every step is monitored.
+   */
+  get extremumDecision(): ExtremumDecision {
+    if (!this.decision) {
+      const x = this.extremumInputs;
+      this.decision = x.want === 'auto'
+        ? extremumPrinciple(this.scheme, x.stability)
+        : { applies: x.want, reason: x.want ? 'forced on by the caller' : 'turned off by the caller' };
+      this.extremumBounds = this.decision.applies ? { lo: x.lo, hi: x.hi } : null;
+    }
+    return this.decision;
+  }
+
+  private get extremum(): { lo: number; hi: number } | null {
+    if (this.extremumBounds === undefined) void this.extremumDecision;
+    return this.extremumBounds ?? null;
   }
 
   get t(): number {

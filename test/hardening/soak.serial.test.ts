@@ -121,14 +121,17 @@ describe('campaign soak', () => {
       await sleep(300);
       const workersClosed = liveEngines();
       const ratio = heap / baseHeap;
-      const failures = rejections.length + (ratio > 1.2 ? 1 : 0) + (workersAfter > Math.max(1, baseEngines) ? 1 : 0) + (threadsAfter > baseThreads + 1 ? 1 : 0) + (workersClosed > 0 ? 1 : 0);
+      // A session holds at most two engine workers: the one running and a warm spare, started while steps are long
+      // (session.ts prepareSpare). Leaks would show as more after 2,000 edits, every one of which can replace a worker.
+      const allowedWorkers = Math.max(2, baseEngines + 1);
+      const failures = rejections.length + (ratio > 1.2 ? 1 : 0) + (workersAfter > allowedWorkers ? 1 : 0) + (threadsAfter > baseThreads + 2 ? 1 : 0) + (workersClosed > 0 ? 1 : 0);
       report('soak', edits, failures,
         `${runs} runs started, ${frames} frames posted in ${editSeconds.toFixed(1)} s of editing; heap ${(baseHeap / 1e6).toFixed(1)} MB before, ${(heap / 1e6).toFixed(1)} MB after (${((ratio - 1) * 100).toFixed(1)}%); ` +
         `engine workers ${baseEngines} before, ${workersAfter} after, ${workersClosed} after closing; OS threads ${baseThreads} before, ${threadsAfter} after; ${rejections.length} unhandled rejections; ${logs.length} log lines`);
       expect(rejections.map(String)).toEqual([]);
       expect(ratio).toBeLessThanOrEqual(1.2);
-      expect(workersAfter).toBeLessThanOrEqual(Math.max(1, baseEngines));
-      expect(threadsAfter).toBeLessThanOrEqual(baseThreads + 1);
+      expect(workersAfter).toBeLessThanOrEqual(allowedWorkers);
+      expect(threadsAfter).toBeLessThanOrEqual(baseThreads + 2);
       expect(workersClosed).toBe(0);
       expect(runs).toBeGreaterThan(20);
     } finally {

@@ -218,6 +218,13 @@ export class PreviewSession {
   private dtOverride: number | null = null;
   private input: InputChoice;
   private engine: EngineLike | null = null;
+  /**
+   * A second worker, started and warmed while a run with long steps goes on (prepareSpare): an edit that has to
+   * terminate the busy worker then continues at once on a warm one instead of paying for a new thread's start-up.
+   */
+  private spare: EngineLike | null = null;
+  /** The last cancel had to terminate a worker: the scheme's steps are long, so keep a spare ready from the next frame on. */
+  private terminatedLast = false;
   private run: LiveRun | null = null;
   private nextRunId = 1;
   private timer: ReturnType<typeof setTimeout> | null = null;
@@ -475,7 +482,11 @@ export class PreviewSession {
     const long = Number.isFinite(r.stepMs) ? r.stepMs > LONG_STEP_MS : r.frames.length <= 1 && waited > LONG_FIRST_STEP_MS;
     if (long && r.engine) {
       const old = r.engine;
-      if (this.engine === old) this.engine = null;
+      if (this.engine === old) {
+        this.engine = this.spare;
+        this.spare = null;
+      }
+      this.terminatedLast = true;
       if (this.busy === r) this.busy = null;
       void old.terminate().catch(() => undefined);
     }
@@ -560,6 +571,10 @@ export class PreviewSession {
             if (Number.isFinite(lastFrameAt) && stats.step > lastFrameStep) run.stepMs = (now - lastFrameAt) / (stats.step - lastFrameStep);
             lastFrameAt = now;
             lastFrameStep = stats.step;
+            // Long steps: the next edit will terminate this worker, so have a warm one ready for it. After a
+            // terminate the spare is made at the new run's first frame (not at once, where it would compete with it).
+            if (Number.isFinite(run.stepMs) && run.stepMs <= LONG_STEP_MS) this.terminatedLast = false;
+            if (this.run === run && (this.terminatedLast || run.stepMs > LONG_STEP_MS || now - run.launchedAt > LONG_FIRST_STEP_MS)) this.prepareSpare(s);
             const frame: StoredFrame = { step: stats.step, t: stats.t, stats, fields };
             run.frames.push(frame);
             if (this.run === run) this.postFrame(run, frame);
@@ -898,6 +913,30 @@ export class PreviewSession {
     return this.run?.runId ?? null;
   }
 
+  /**
+   * Starts the spare worker and runs the scheme once on a 16-pixel flat picture for two steps, so the thread, its
+   * modules and the kernels' code paths are warm when it takes over.
+   */
+  private prepareSpare(s: CheckedScheme): void {
+    if (this.spare || this.disposed) return;
+    const spare = this.env.newEngine();
+    this.spare = spare;
+    const width = 16, height = s.dims === 1 ? 1 : 16;
+    const flat = { width, height, data: new Float32Array(width * height).fill(0.5) };
+    const images = s.fields.filter((f) => f.init.kind === 'image');
+    const options: WorkerRunOptions = {
+      ...(images.length ? { image: flat, fieldImages: Object.fromEntries(images.map((f) => [f.name, flat])) } : { width, height }),
+      // No monitor analysis here: it would keep the spare busy for longer than the warm-up is worth (a run decides
+      // its monitors after posting its start frame anyway).
+      steps: 2, every: 0, monitors: { extremumCheck: false }, backend: this.env.settings().backend ?? 'auto',
+    };
+    try {
+      spare.start({ scheme: s }, options).done.catch(() => undefined);
+    } catch {
+      // A warm-up that cannot start leaves a cold spare, which is still a started thread.
+    }
+  }
+
   get currentInput(): InputChoice {
     return this.input;
   }
@@ -912,5 +951,8 @@ export class PreviewSession {
     const e = this.engine;
     this.engine = null;
     if (e) void e.terminate().catch(() => undefined);
+    const spare = this.spare;
+    this.spare = null;
+    if (spare) void spare.terminate().catch(() => undefined);
   }
 }

@@ -35,9 +35,11 @@ describe('fluxel run', () => {
     expect(code, err).toBe(0);
     const img = (await readImageFile(out)).channels[0];
     expect([img.width, img.height]).toEqual([48, 40]);
-    expect(readdirSync(frames).sort()).toEqual(['u-000000.pfm', 'u-000004.pfm', 'u-000008.pfm', 'u-000012.pfm']);
+    // The frames, and their provenance sidecar (issue 12).
+    expect(readdirSync(frames).sort()).toEqual(['u-000000.pfm', 'u-000004.pfm', 'u-000008.pfm', 'u-000012.pfm', 'u-frames.json']);
     const s = JSON.parse(readFileSync(stats, 'utf8'));
-    expect(Object.keys(s).sort()).toEqual(['backend', 'best', 'dt', 'dtype', 'frames', 'input', 'params', 'scheme', 'seed', 'sourceHash', 'stepSeconds', 'steps', 'stopReason', 'warnings'].sort());
+    expect(Object.keys(s).sort()).toEqual(['backend', 'best', 'dt', 'dtype', 'frames', 'input', 'params', 'scheme', 'seed', 'sourceHash', 'stepSeconds', 'steps', 'stopReason', 'warnings',
+      'inputs', 'backendChoice', 'width', 'height', 'outputHash', 'outputHashRule'].sort());
     expect(s.params).toEqual({ K: 0.1 });
     expect([s.dt, s.steps, s.dtype, s.backend, s.input, s.seed]).toEqual([0.2, 12, 'float32', 'wasm (f32x4, 1 thread)', 'scene:cells', 3]);
     expect(s.frames.map((f: { step: number }) => f.step)).toEqual([0, 4, 8, 12]);
