@@ -12,7 +12,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { WireVerdict } from '../../protocol/preview';
-import type { FromAnalysis, ImpulseResult, KnobSet, Picture, ToAnalysis, WeightsResult } from './analysisProtocol';
+import type { AnyPicture, CompareResult, FromAnalysis, ImpulseResult, KnobSet, Picture, ToAnalysis, WeightsResult } from './analysisProtocol';
 
 export const ANALYSIS_BUNDLE_NAME = 'preview-analysis.js';
 
@@ -48,6 +48,8 @@ export interface AnalysisService {
   impulse(text: string, knobs: KnobSet, steps: number): Promise<ImpulseResult | null>;
   scene(scene: string, noise: number, seed: number, size: number): Promise<{ noisy: Picture; clean: Picture }>;
   decode(bytes: Uint8Array): Promise<Picture>;
+  /** A/B metrics of `result` (against `reference` and `pinned` when given); see analysisCompute.compareResult. */
+  compare(result: AnyPicture, reference: AnyPicture | null, pinned: AnyPicture | null): Promise<CompareResult>;
   dispose(): Promise<void>;
 }
 
@@ -120,6 +122,12 @@ export class AnalysisClient implements AnalysisService {
     const m = await this.request({ type: 'impulse', id: this.nextId++, text, knobs, steps });
     if (m.type !== 'impulse') throw new Error('unexpected answer');
     return m.impulse;
+  }
+
+  async compare(result: AnyPicture, reference: AnyPicture | null, pinned: AnyPicture | null): Promise<CompareResult> {
+    const m = await this.request({ type: 'compare', id: this.nextId++, result, reference, pinned });
+    if (m.type !== 'compare') throw new Error('unexpected answer');
+    return m.compare;
   }
 
   async dispose(): Promise<void> {

@@ -1,9 +1,10 @@
 // What the analysis worker computes, as plain functions (so unit tests call them without a thread): the static
 // verdict for given knob values, the weights at one pixel of a full-resolution state, the impulse response, scenes
-// and decoded image files.
+// and decoded image files, and the metrics of an A/B comparison.
 // Must not import vscode, Node or the DOM.
 
 import { impulseResponse, kernelAt } from '../../analysis/kernel';
+import { compareImages, totalVariation, type MetricImage } from '../../analysis/metrics';
 import { analyseStability } from '../../analysis/stability';
 import { extremumPrinciple } from '../../engine/monitorPolicy';
 import { decodeImage } from '../../images/codec';
@@ -11,7 +12,7 @@ import { makeScene } from '../../images/scenes';
 import { parseAndCheck } from '../../notation';
 import type { CheckedScheme } from '../../notation/scheme';
 import type { WireVerdict } from '../../protocol/preview';
-import type { ImpulseResult, KnobSet, Picture, WeightsResult } from './analysisProtocol';
+import type { CompareResult, ImpulseResult, KnobSet, Picture, SideMetrics, WeightsResult } from './analysisProtocol';
 
 let lastText: string | null = null;
 let lastScheme: CheckedScheme | null = null;
@@ -67,4 +68,24 @@ export function scenePictures(name: string, noise: number, seed: number, size: n
 export function decodePicture(bytes: Uint8Array): Picture {
   const c = decodeImage(bytes, {}).channels[0];
   return { width: c.width, height: c.height, data: c.data };
+}
+
+/**
+ * The metrics of one side of an A/B comparison (numerics.md "Metrics"): PSNR and SSIM against the clean reference
+ * when there is one of the same size (SSIM null on images smaller than its 11×11 window), isotropic total variation;
+ * with a pinned result of the same size, PSNR and SSIM of this result against it.
+ */
+export function compareResult(result: MetricImage, reference: MetricImage | null, pinned: MetricImage | null): CompareResult {
+  const same = (a: MetricImage | null): a is MetricImage => a !== null && a.width === result.width && a.height === result.height;
+  let metrics: SideMetrics = { psnr: null, ssim: null, tv: totalVariation(result) };
+  if (same(reference)) {
+    const c = compareImages(reference, result);
+    metrics = { ...metrics, psnr: c.psnr, ssim: c.ssim };
+  }
+  let between: CompareResult['between'] = null;
+  if (same(pinned)) {
+    const c = compareImages(pinned, result);
+    between = { psnr: c.psnr, ssim: c.ssim ?? Number.NaN };
+  }
+  return { metrics, between };
 }

@@ -1,5 +1,5 @@
 // Messages between the live run's host side and its analysis worker (stability verdict, weights at a pixel,
-// impulse response, scene generation and image decoding). Types only; the worker parses the scheme text itself, so requests carry plain data.
+// impulse response, scene generation and image decoding, A/B metrics). Types only; the worker parses the scheme text itself, so requests carry plain data.
 // Must not import vscode or the DOM.
 
 import type { WireVerdict } from '../../protocol/preview';
@@ -30,7 +30,29 @@ export namespace ToAnalysis {
   export interface Scene { readonly type: 'scene'; readonly id: number; readonly scene: string; readonly noise: number; readonly seed: number; readonly size: number }
   /** Decodes an image file's bytes to its first grey channel. */
   export interface Decode { readonly type: 'decode'; readonly id: number; readonly bytes: Uint8Array }
-  export type Type = Verdict | Weights | Impulse | Scene | Decode;
+  /**
+   * Metrics of one result for an A/B comparison: PSNR and SSIM against `reference` (when given) and its total
+   * variation; with `pinned`, also PSNR and SSIM of the result against the pinned one.
+   */
+  export interface Compare {
+    readonly type: 'compare';
+    readonly id: number;
+    readonly result: AnyPicture;
+    readonly reference: AnyPicture | null;
+    readonly pinned: AnyPicture | null;
+  }
+  export type Type = Verdict | Weights | Impulse | Scene | Decode | Compare;
+}
+
+export interface SideMetrics {
+  readonly psnr: number | null;
+  readonly ssim: number | null;
+  readonly tv: number | null;
+}
+
+export interface CompareResult {
+  readonly metrics: SideMetrics;
+  readonly between: { readonly psnr: number; readonly ssim: number } | null;
 }
 
 export interface WeightsResult {
@@ -54,6 +76,13 @@ export interface ImpulseResult {
   readonly truncated: boolean;
 }
 
+/** A picture in either precision (run states are Float64 for `dtype float64` schemes). */
+export interface AnyPicture {
+  readonly width: number;
+  readonly height: number;
+  readonly data: Float32Array | Float64Array;
+}
+
 export interface Picture {
   readonly width: number;
   readonly height: number;
@@ -66,6 +95,7 @@ export namespace FromAnalysis {
   export interface Impulse { readonly type: 'impulse'; readonly id: number; readonly impulse: ImpulseResult | null }
   export interface Scene { readonly type: 'scene'; readonly id: number; readonly noisy: Picture; readonly clean: Picture }
   export interface Decode { readonly type: 'decode'; readonly id: number; readonly picture: Picture }
+  export interface Compare { readonly type: 'compare'; readonly id: number; readonly compare: CompareResult }
   export interface Failed { readonly type: 'error'; readonly id: number; readonly message: string }
-  export type Type = Verdict | Weights | Impulse | Scene | Decode | Failed;
+  export type Type = Verdict | Weights | Impulse | Scene | Decode | Compare | Failed;
 }

@@ -4,7 +4,7 @@
 
 import { parentPort } from 'node:worker_threads';
 import type { FromAnalysis, ToAnalysis } from './analysisProtocol';
-import { computeImpulse, computeVerdict, computeWeights, decodePicture, scenePictures } from './analysisCompute';
+import { compareResult, computeImpulse, computeVerdict, computeWeights, decodePicture, scenePictures } from './analysisCompute';
 
 function answer(msg: ToAnalysis.Type): FromAnalysis.Type {
   try {
@@ -17,6 +17,7 @@ function answer(msg: ToAnalysis.Type): FromAnalysis.Type {
       case 'impulse': return { type: 'impulse', id: msg.id, impulse: computeImpulse(msg.text, msg.knobs, msg.steps) };
       case 'scene': return { type: 'scene', id: msg.id, ...scenePictures(msg.scene, msg.noise, msg.seed, msg.size) };
       case 'decode': return { type: 'decode', id: msg.id, picture: decodePicture(msg.bytes) };
+      case 'compare': return { type: 'compare', id: msg.id, compare: compareResult(msg.result, msg.reference, msg.pinned) };
     }
   } catch (err) {
     return { type: 'error', id: (msg as { id: number }).id, message: err instanceof Error ? err.message : String(err) };

@@ -12,9 +12,10 @@ import { canonicalScheme } from '../../engine/plan';
 import { parse, parseAndCheck } from '../../notation';
 import type { SourceRange } from '../../notation/ast';
 import type { CheckedScheme } from '../../notation/scheme';
-import type { FromPreview, InputChoice, KnobSpec, ToPreview, WireRange } from '../../protocol/preview';
+import type { FromPreview, InputChoice, KnobSpec, ToPreview, WirePinned, WireRange } from '../../protocol/preview';
 import type { AnalysisService } from './analysisClient';
 import type { KnobSet } from './analysisProtocol';
+import { restorePinned, storePinned, type PinnedResult, type StoredPinned } from './baseline';
 import { downsample, frameStride, knobEdits, rowOf, shrinkFactor, type OffsetEdit } from './frames';
 
 /** The engine worker as the session uses it (EngineWorker, or a fake in tests). */
@@ -89,6 +90,10 @@ export interface SessionEnv {
   fit?(job: FitJob, signal: AbortSignal, onEvaluation: (count: number) => void): Promise<FitOutcome>;
   /** Offers to write fitted values into the file; resolves true when the user accepts. */
   offerWrite?(summary: string): Promise<boolean>;
+  /** The pinned result (A/B) remembered for this document, in its stored form (see baseline.ts). */
+  recallPinned?(): unknown;
+  /** Remembers the pinned result (null: unpinned, or too large to keep across reloads). */
+  rememberPinned?(stored: StoredPinned | null): void;
 }
 
 /**
@@ -154,6 +159,10 @@ interface LiveRun {
   ended: ToPreview.RunEnded | null;
   verdict: ToPreview.Verdict | null;
   impulse: ToPreview.Impulse | null;
+  /** The clean reference the run's PSNR is measured against (scenes), or null. */
+  readonly reference: GreyPicture | null;
+  /** The run's knob values and input in words, for the label of a pinned result. */
+  readonly label: string;
   /** Milliseconds per step between recorded frames (NaN until two frames arrived). */
   stepMs: number;
   /** When the run was handed to the worker (NaN while it waits for the worker). */
@@ -192,10 +201,13 @@ export class PreviewSession {
 
   /** Knob values remembered from an earlier session, applied at the first successful check. */
   private recalled: StoredKnobs | null;
+  /** The pinned result of an A/B comparison; kept across edits, reruns, input changes and re-shown panels. */
+  private pinned: PinnedResult | null;
 
   constructor(private readonly env: SessionEnv) {
     this.input = env.recallInput() ?? DEFAULT_INPUT;
     this.recalled = storedKnobs(env.recallKnobs?.());
+    this.pinned = restorePinned(env.recallPinned?.());
   }
 
   private rememberKnobs(): void {
@@ -393,9 +405,11 @@ export class PreviewSession {
       frameWidth: Math.ceil(width / shrink), frameHeight: Math.ceil(height / shrink), steps, every, dt: knobs.dt, field,
       hasReference: reference !== null && needsImage,
     };
+    const knobWords = [...Object.entries(knobs.values).map(([k, v]) => `${k} = ${Number(v.toPrecision(4))}`), `dt = ${Number(knobs.dt.toPrecision(4))}`].join(', ');
     const run: LiveRun = {
       runId, text: g.text, scheme: s, knobs, started, shrink, handle: null, engine: null, frames: [], findings: [], ended: null,
-      verdict: null, impulse: null, stepMs: NaN, launchedAt: NaN,
+      verdict: null, impulse: null, reference: needsImage ? reference : null, label: needsImage ? `${knobWords} · ${inputLabel(input)}` : knobWords,
+      stepMs: NaN, launchedAt: NaN,
     };
     this.run = run;
     this.env.post(started);
@@ -518,6 +532,7 @@ export class PreviewSession {
     if (r.verdict) this.env.post(r.verdict);
     if (r.impulse) this.env.post(r.impulse);
     if (r.ended) this.env.post(r.ended);
+    if (this.pinned) this.postPinned();
   }
 
   /**
@@ -676,6 +691,85 @@ export class PreviewSession {
       case 'fitKnobs':
         await this.fitKnobs(msg.names);
         return;
+      case 'pin':
+        await this.pin(msg.runId, msg.step);
+        return;
+      case 'unpin':
+        this.pinned = null;
+        this.env.rememberPinned?.(null);
+        this.env.post({ type: 'baseline', source: this.env.source, pinned: null });
+        return;
+      case 'requestComparison':
+        await this.compare(msg.runId, msg.step);
+        return;
+    }
+  }
+
+  /** The field a request about the current run concerns: the shown one when the run has it, else the run's own. */
+  private fieldOf(r: LiveRun): string {
+    return this.shownField && r.scheme.fields.some((f) => f.name === this.shownField) ? this.shownField : r.started.field;
+  }
+
+  /**
+   * Pins the shown field of run `runId` at `step` (its full-resolution state) as the baseline of an A/B comparison,
+   * with its metrics against the run's clean reference; replaces an older pin and is remembered per file.
+   */
+  private async pin(runId: number, step: number): Promise<void> {
+    const r = this.run;
+    if (!r || r.runId !== runId) return;
+    const frame = r.frames.find((f) => f.step === step);
+    const name = this.fieldOf(r);
+    const snap = frame?.fields[name];
+    if (!frame || !snap) return;
+    const data = Float32Array.from(snap.data);
+    try {
+      const c = await this.env.analysis.compare({ width: snap.width, height: snap.height, data }, r.reference, null);
+      if (this.disposed) return;
+      this.pinned = {
+        label: `step ${step} · ${r.label}`, step, t: frame.t, field: name, width: snap.width, height: snap.height, data, metrics: c.metrics,
+        pinnedAt: new Date().toISOString(),
+      };
+    } catch (err) {
+      this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `The result could not be pinned: ${err instanceof Error ? err.message : String(err)}` });
+      return;
+    }
+    const stored = storePinned(this.pinned);
+    this.env.rememberPinned?.(stored);
+    if (!stored) this.env.post({ type: 'notice', source: this.env.source, level: 'info', text: 'The pinned result is too large to be kept across reloads; it stays while the panel is open.' });
+    this.postPinned();
+  }
+
+  /** Posts the pinned result at the preview size of its own grid. */
+  private postPinned(): void {
+    const p = this.pinned;
+    if (!p) return;
+    const small = downsample(p, shrinkFactor(p.width, p.height, this.env.settings().maxPreviewSize));
+    const wire: WirePinned = {
+      label: p.label, step: p.step, t: p.t, field: p.field, fullWidth: p.width, fullHeight: p.height, width: small.width, height: small.height,
+      data: small.data, metrics: p.metrics, pinnedAt: p.pinnedAt,
+    };
+    this.env.post({ type: 'baseline', source: this.env.source, pinned: wire });
+  }
+
+  /** The pinned result against the current run's shown field at `step`: both sides' metrics and their distance. */
+  private async compare(runId: number, step: number): Promise<void> {
+    const r = this.run;
+    const p = this.pinned;
+    if (!r || r.runId !== runId || !p) return;
+    const frame = r.frames.find((f) => f.step === step);
+    const snap = frame?.fields[this.fieldOf(r)];
+    if (!frame || !snap) return;
+    const comparable = snap.width === p.width && snap.height === p.height;
+    try {
+      const c = await this.env.analysis.compare(snap, r.reference, comparable ? p : null);
+      if (this.run !== r || this.pinned !== p) return;
+      this.env.post({
+        type: 'comparison', source: this.env.source, runId: r.runId, step, comparable,
+        note: comparable ? null : `The pinned result is ${p.width}×${p.height}, this run ${snap.width}×${snap.height}: only side by side.`,
+        pinned: p.metrics, current: c.metrics, between: c.between,
+      });
+    } catch (err) {
+      this.env.log?.(`comparison failed: ${String(err)}`);
     }
   }
 

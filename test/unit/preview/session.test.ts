@@ -12,6 +12,7 @@ import type { AnalysisService } from '../../../src/extension/preview/analysisCli
 import { PreviewSession, type EngineLike, type FitJob, type FitOutcome, type SessionEnv } from '../../../src/extension/preview/session';
 import type { BackendChoice } from '../../../src/engine/wasm/select';
 import type { InputChoice, ToPreview } from '../../../src/protocol/preview';
+import { compareResult } from '../../../src/extension/preview/analysisCompute';
 
 const SCHEME = [
   'grid 2d',
@@ -63,7 +64,7 @@ function stats(step: number): FrameStats {
   return { step, t: step * 0.2, fields: { u: { min: 0, max: 1, mean: 0.5 } }, psnr: 20 + step };
 }
 
-function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown; backend?: BackendChoice; fit?: SessionEnv['fit']; accept?: boolean } = {}) {
+function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown; backend?: BackendChoice; fit?: SessionEnv['fit']; accept?: boolean; pinned?: unknown } = {}) {
   const posted: ToPreview.Type[] = [];
   const runs: FakeRun[] = [];
   const engines: FakeEngine[] = [];
@@ -80,6 +81,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
     impulse: async (_t, _k, steps) => ({ steps, t: steps * 0.2, sigma: [1, 1], heatSigma: 1, sum: 1, truncated: false }),
     scene: async (_name, _noise, _seed, size) => ({ noisy: { width: size, height: size, data: new Float32Array(size * size).fill(0.5) }, clean: { width: size, height: size, data: new Float32Array(size * size) } }),
     decode: async () => ({ width: 1, height: 1, data: new Float32Array(1) }),
+    compare: async (result, reference, pinned) => compareResult(result, reference, pinned),
     dispose: async () => undefined,
   };
   const edits: { edits: unknown; text: string }[] = [];
@@ -87,6 +89,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
   const remembered: InputChoice[] = [];
   const rememberedKnobs: unknown[] = [];
   const offers: string[] = [];
+  const rememberedPinned: unknown[] = [];
   const env: SessionEnv = {
     source: 'file:///w/a.fluxel',
     fileName: 'a.fluxel',
@@ -106,11 +109,13 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
     pickImage: async () => 'file:///w/pic.png',
     applyEdits: async (e, text) => { edits.push({ edits: e, text }); return true; },
     reveal: (r) => revealed.push(r),
+    recallPinned: () => opts.pinned,
+    rememberPinned: (p) => rememberedPinned.push(p),
     ...(opts.fit ? { fit: opts.fit, offerWrite: async (summary: string) => { offers.push(summary); return opts.accept ?? false; } } : {}),
   };
   const session = new PreviewSession(env);
   const of = <T extends ToPreview.Type['type']>(type: T) => posted.filter((m): m is Extract<ToPreview.Type, { type: T }> => m.type === type);
-  return { session, posted, runs, engines, weightsCalls, edits, revealed, remembered, rememberedKnobs, offers, of };
+  return { session, posted, runs, engines, weightsCalls, edits, revealed, remembered, rememberedKnobs, rememberedPinned, offers, of };
 }
 
 /** Lets pending promise callbacks run (no timers involved). */
@@ -491,5 +496,97 @@ describe('knob fit in the live run', () => {
     await settle();
     await session.handle({ type: 'fitKnobs', source: 'file:///w/a.fluxel' });
     expect(of('fit').at(-1)).toMatchObject({ status: 'failed', message: 'the pool broke' });
+  });
+});
+
+describe('A/B: a pinned result', () => {
+  const src = 'file:///w/a.fluxel';
+  // A 32×32 run: step 0 is flat 0.5 (the fake scene), step 1 a ramp; the fake clean reference is all zeros.
+  const ramp = (i: number) => (i % 32) / 31;
+  async function ranOnce(opts: Parameters<typeof setup>[0] = {}, w = 32, hgt = 32) {
+    const t = setup(opts);
+    t.session.documentChanged(SCHEME);
+    await settle();
+    const run = t.runs.at(-1) as FakeRun;
+    run.cb.onFrame?.(stats(0), { u: snapshot(w, hgt, () => 0.5) });
+    run.cb.onFrame?.(stats(1), { u: snapshot(w, hgt, ramp) });
+    run.resolve({ result: { status: 'done', stepsDone: 1, steps: 1, dt: 0.2, params: {}, dtype: 'float32', backend: 'js', stepSeconds: 0, frames: [], warnings: [] }, fields: {} });
+    await settle();
+    return t;
+  }
+
+  it('pins the shown field at a step at full resolution, with its metrics, and posts it at the preview size', async () => {
+    const t = await ranOnce();
+    const runId = t.session.currentRunId as number;
+    await t.session.handle({ type: 'pin', source: src, runId, step: 1 });
+    await settle();
+    const b = t.of('baseline').at(-1);
+    expect(b?.pinned).toMatchObject({ step: 1, field: 'u', fullWidth: 32, fullHeight: 32, width: 16, height: 16 });
+    expect(b?.pinned?.label).toMatch(/^step 1 · K = 0\.5, dt = 0\.2 · survey tile, noise 0\.1, seed 7$/);
+    // Against the all-zero reference: MSE = mean of ramp², PSNR = −10·log10(MSE) (numerics.md "Metrics").
+    let mse = 0;
+    for (let i = 0; i < 1024; i++) mse += Math.fround(ramp(i)) ** 2 / 1024;
+    expect(b?.pinned?.metrics.psnr).toBeCloseTo(-10 * Math.log10(mse), 9);
+    // TV of a horizontal ramp of 32 columns: 31 steps of 1/31 per row, 32 rows (worked by hand, common practice).
+    expect(b?.pinned?.metrics.tv).toBeCloseTo(32, 4);
+    expect(t.rememberedPinned.at(-1)).toMatchObject({ version: 1, step: 1, width: 32, height: 32 });
+  });
+
+  it('keeps the pin across edits and new runs, and compares the new run with it', async () => {
+    const t = await ranOnce();
+    await t.session.handle({ type: 'pin', source: src, runId: t.session.currentRunId as number, step: 1 });
+    t.session.documentChanged(SCHEME.replace('K = 0.5', 'K = 0.25'));
+    await settle();
+    const run = t.runs.at(-1) as FakeRun;
+    run.cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0.5) });
+    run.cb.onFrame?.(stats(1), { u: snapshot(32, 32, (i) => ramp(i) * 0.5) });
+    await t.session.handle({ type: 'requestComparison', source: src, runId: t.session.currentRunId as number, step: 1 });
+    const c = t.of('comparison').at(-1);
+    expect(c).toMatchObject({ comparable: true, note: null, step: 1 });
+    expect(c?.current.tv).toBeCloseTo(16, 4);
+    expect(c?.pinned.tv).toBeCloseTo(32, 4);
+    // Current against pinned: differences ramp/2, so MSE = mean(ramp²)/4.
+    let mse = 0;
+    for (let i = 0; i < 1024; i++) mse += (Math.fround(ramp(i)) - Math.fround(ramp(i) * 0.5)) ** 2 / 1024;
+    expect(c?.between?.psnr).toBeCloseTo(-10 * Math.log10(mse), 6);
+    expect(c?.between?.ssim).toBeGreaterThan(0);
+    expect(c?.between?.ssim).toBeLessThan(1);
+    expect(t.of('baseline').length).toBe(1);
+  });
+
+  it('comes back in a new session from the per-file memory (a reloaded or re-shown panel), and unpin forgets it', async () => {
+    const first = await ranOnce();
+    await first.session.handle({ type: 'pin', source: src, runId: first.session.currentRunId as number, step: 1 });
+    const stored = first.rememberedPinned.at(-1);
+    first.session.dispose();
+    const second = await ranOnce({ pinned: JSON.parse(JSON.stringify(stored)) });
+    await second.session.handle({ type: 'ready', source: src });
+    const b = second.of('baseline').at(-1);
+    expect(b?.pinned?.step).toBe(1);
+    expect(b?.pinned?.data[3]).toBeCloseTo((3 * 2 + 0.5) / 31, 5); // 2×2 block mean of the ramp at columns 6, 7
+    await second.session.handle({ type: 'unpin', source: src });
+    expect(second.of('baseline').at(-1)?.pinned).toBeNull();
+    expect(second.rememberedPinned.at(-1)).toBeNull();
+    await second.session.handle({ type: 'requestComparison', source: src, runId: second.session.currentRunId as number, step: 1 });
+    expect(second.of('comparison').length).toBe(0);
+  });
+
+  it('ignores a damaged stored pin, and shows pins of another size side by side only', async () => {
+    const damaged = await ranOnce({ pinned: { version: 1, label: 'x', step: 1, t: 0.2, field: 'u', width: 4, height: 4, values: 'AAAA', metrics: { psnr: 1, ssim: null, tv: 2 }, pinnedAt: 'now' } });
+    await damaged.session.handle({ type: 'ready', source: src });
+    expect(damaged.of('baseline').length).toBe(0);
+    const t = await ranOnce({ input: { kind: 'file', uri: 'file:///w/pic.png' } }, 8, 4);
+    await t.session.handle({ type: 'pin', source: src, runId: t.session.currentRunId as number, step: 0 });
+    expect(t.of('baseline').at(-1)?.pinned?.fullWidth).toBe(8);
+    await t.session.handle({ type: 'setInput', source: src, input: { kind: 'scene', scene: 'card', noise: 0, seed: 1 } });
+    await settle();
+    const run = t.runs.at(-1) as FakeRun;
+    run.cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0.5) });
+    await t.session.handle({ type: 'requestComparison', source: src, runId: t.session.currentRunId as number, step: 0 });
+    const c = t.of('comparison').at(-1);
+    expect(c).toMatchObject({ comparable: false, between: null });
+    expect(c?.note).toMatch(/8×4.*32×32/);
+    // The file input has no clean reference: the pinned side has TV only.
+    expect(c?.pinned).toMatchObject({ psnr: null, ssim: null });
   });
 });
