@@ -218,8 +218,9 @@ export namespace ToPreview {
   }
   /**
    * The frequency map of the scheme for the knob values of run `runId`: |G(θ)| on a `cols` × `rows` grid over
-   * θx, θy ∈ [−π, π] (row-major, row 0 at θy = −π; 1-D schemes have one row), the colour bar's range, the stable
-   * region's edge as line segments in θ (x0, y0, x1, y1, ...), and the isotropy error by direction.
+   * θx, θy ∈ [−π, π], both ends included (amp[j·cols + i] sits at θx = −π + 2π·i/(cols − 1), θy = −π + 2π·j/(rows − 1);
+   * 1-D schemes have one row), the colour bar's range, the stable region's edge as line segments in θ
+   * (x0, y0, x1, y1, ...), and the isotropy error by direction.
    */
   export interface Spectrum extends Base {
     readonly type: 'spectrum';
@@ -280,6 +281,8 @@ export namespace ToPreview {
     readonly note: string | null;
     readonly pinned: WireSideMetrics;
     readonly current: WireSideMetrics;
+    /** current − pinned, metric by metric (null where either side has none). */
+    readonly delta: WireSideMetrics;
     /** PSNR and SSIM of the current result against the pinned one (null when not comparable). */
     readonly between: { readonly psnr: number; readonly ssim: number } | null;
   }
@@ -631,13 +634,14 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
       if (!int(raw.runId) || !int(raw.step) || typeof raw.comparable !== 'boolean' || !(raw.note === null || str(raw.note, 10_000))) return null;
       const a = sideMetrics(raw.pinned);
       const b = sideMetrics(raw.current);
-      if (!a || !b) return null;
+      const d = sideMetrics(raw.delta);
+      if (!a || !b || !d) return null;
       let between: ToPreview.Comparison['between'] = null;
       if (raw.between !== null) {
         if (!isObj(raw.between) || typeof raw.between.psnr !== 'number' || typeof raw.between.ssim !== 'number') return null;
         between = { psnr: raw.between.psnr, ssim: raw.between.ssim };
       }
-      return { type: 'comparison', source, runId: raw.runId, step: raw.step, comparable: raw.comparable, note: raw.note, pinned: a, current: b, between };
+      return { type: 'comparison', source, runId: raw.runId, step: raw.step, comparable: raw.comparable, note: raw.note, pinned: a, current: b, delta: d, between };
     }
     default:
       return null;

@@ -14,7 +14,7 @@ import type { SourceRange } from '../../notation/ast';
 import type { CheckedScheme } from '../../notation/scheme';
 import type { FromPreview, InputChoice, KnobSpec, ToPreview, WirePinned, WireRange } from '../../protocol/preview';
 import type { AnalysisService } from './analysisClient';
-import type { KnobSet } from './analysisProtocol';
+import type { KnobSet, SideMetrics } from './analysisProtocol';
 import { restorePinned, storePinned, type PinnedResult, type StoredPinned } from './baseline';
 import { downsample, frameStride, knobEdits, rowOf, shrinkFactor, type OffsetEdit } from './frames';
 
@@ -132,6 +132,12 @@ export function inputLabel(input: InputChoice): string {
   if (input.kind === 'scene') return `${SCENE_LABELS[input.scene]}, noise ${input.noise}, seed ${input.seed}`;
   const tail = input.uri.split(/[\\/]/).pop() ?? input.uri;
   return decodeURIComponent(tail);
+}
+
+/** current − pinned per metric; null where either side has none. */
+export function metricDelta(current: SideMetrics, pinned: SideMetrics): SideMetrics {
+  const d = (a: number | null, b: number | null) => (a === null || b === null ? null : a - b);
+  return { psnr: d(current.psnr, pinned.psnr), ssim: d(current.ssim, pinned.ssim), tv: d(current.tv, pinned.tv) };
 }
 
 export function wireRange(r: SourceRange): WireRange {
@@ -766,7 +772,7 @@ export class PreviewSession {
       this.env.post({
         type: 'comparison', source: this.env.source, runId: r.runId, step, comparable,
         note: comparable ? null : `The pinned result is ${p.width}×${p.height}, this run ${snap.width}×${snap.height}: only side by side.`,
-        pinned: p.metrics, current: c.metrics, between: c.between,
+        pinned: p.metrics, current: c.metrics, delta: metricDelta(c.metrics, p.metrics), between: c.between,
       });
     } catch (err) {
       this.env.log?.(`comparison failed: ${String(err)}`);

@@ -217,13 +217,14 @@ describe('messages of the frequency map, influence map, modified equation and A/
   it('accepts comparisons with and without a common size', () => {
     const c = {
       type: 'comparison', source: src, runId: 5, step: 40, comparable: true, note: null,
-      pinned: { psnr: 27.5, ssim: 0.81, tv: 12 }, current: { psnr: 28, ssim: 0.83, tv: 11 }, between: { psnr: 35, ssim: 0.97 },
+      pinned: { psnr: 27.5, ssim: 0.81, tv: 12 }, current: { psnr: 28, ssim: 0.83, tv: 11 }, delta: { psnr: 0.5, ssim: 0.02, tv: -1 }, between: { psnr: 35, ssim: 0.97 },
     };
     expect(validateToPreview(c)).toEqual(c);
-    const apart = { ...c, comparable: false, note: 'sizes differ', current: { psnr: null, ssim: null, tv: 3 }, between: null };
+    const apart = { ...c, comparable: false, note: 'sizes differ', current: { psnr: null, ssim: null, tv: 3 }, delta: { psnr: null, ssim: null, tv: -9 }, between: null };
     expect(validateToPreview(apart)).toEqual(apart);
     expect(validateToPreview({ ...c, between: { psnr: 1 } })).toBeNull();
     expect(validateToPreview({ ...c, comparable: 'yes' })).toBeNull();
+    expect(validateToPreview({ ...c, delta: undefined })).toBeNull();
   });
 });
 

@@ -545,6 +545,8 @@ describe('A/B: a pinned result', () => {
     expect(c).toMatchObject({ comparable: true, note: null, step: 1 });
     expect(c?.current.tv).toBeCloseTo(16, 4);
     expect(c?.pinned.tv).toBeCloseTo(32, 4);
+    expect(c?.delta.tv).toBeCloseTo(-16, 4);
+    expect(c?.delta.psnr).toBeCloseTo((c?.current.psnr as number) - (c?.pinned.psnr as number), 12);
     // Current against pinned: differences ramp/2, so MSE = mean(ramp²)/4.
     let mse = 0;
     for (let i = 0; i < 1024; i++) mse += (Math.fround(ramp(i)) - Math.fround(ramp(i) * 0.5)) ** 2 / 1024;
