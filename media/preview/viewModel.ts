@@ -204,7 +204,7 @@ export function verdictLabel(v: WireVerdict): { text: string; tone: Tone; detail
   return { text: 'within limit', tone: 'ok', detail };
 }
 
-const KIND_WORDS: Record<WireFinding['kind'], string> = { 'blow-up': 'blow-up', 'new-extremum': 'new extremum', growth: 'runaway growth' };
+const KIND_WORDS: Record<WireFinding['kind'], string> = { 'blow-up': 'blow-up', 'new-extremum': 'new extremum', growth: 'runaway growth', 'no-convergence': 'not converged' };
 
 /** One finding line: what, when (step), where (pixel). */
 export function findingText(f: WireFinding): string {

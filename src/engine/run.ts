@@ -1,11 +1,14 @@
 // The runner: allocates padded buffers for a checked scheme, initialises fields, steps the compiled kernels,
 // runs the monitors after each step, and records frame statistics. In-process; worker/ wraps it in a thread.
+// Frame statistics carry the per-step measures (FieldStats: drift of the mean, total variation, Dirichlet energy,
+// change since the previous step, RMS and max); a run with a `stopChange` tolerance (`until change < tol`) stops
+// after the first step whose RMS change is below it, and RunResult.stopReason says why any run ended.
 // Must not import vscode, the DOM or Node modules (so it also runs inside the engine worker unchanged).
 
 import ndarray from 'ndarray';
 import type { NdArray } from 'ndarray';
 import type { StabilityReport } from '../analysis/stability';
-import { psnr as psnrOf, ssim as ssimOf } from '../analysis/metrics';
+import { dirichletEnergy, psnr as psnrOf, ssim as ssimOf, totalVariation } from '../analysis/metrics';
 import type { CheckedScheme } from '../notation/scheme';
 import { fillGhosts, makeGeometry, planGhosts, readInterior, writeInterior, type GhostPlan } from './boundary';
 import { blurInto, gaussianTaps } from './blur';
@@ -13,7 +16,7 @@ import { defaultBackend } from './wasm/select';
 import { extremumPrinciple, type ExtremumDecision } from './monitorPolicy';
 import { EngineError, planHalo, type HaloPlan } from './plan';
 import type {
-  CompiledScheme, DType, FieldArray, FieldStats, FrameStats, Geometry, KernelBackend, KernelContext, RunWarning, WarningKind,
+  CompiledScheme, DType, FieldArray, FieldStats, FrameStats, Geometry, KernelBackend, KernelContext, RunWarning, StopReason, WarningKind,
 } from './types';
 
 /** A grey image, row-major: pixel (x, y) is data[y * width + x]. */
@@ -58,7 +61,17 @@ export interface RunOptions {
   readonly reference?: RunImage | null;
   readonly ssim?: boolean;
   readonly backend?: KernelBackend;
+  /** Per-step measures in every recorded frame (drift, TV, energy, change); default true. */
+  readonly measures?: boolean;
+  /**
+   * Stop after the first step whose RMS change ‖uⁿ⁺¹ − uⁿ‖ (the largest over the updated fields) is below this;
+   * default: the scheme's `until change < tol`, else none. `steps` is then the safety cap (see DEFAULT_STEP_CAP).
+   */
+  readonly stopChange?: number | null;
 }
+
+/** The step cap of `until change < tol` when nothing else sets one; reaching it is a `no-convergence` warning. */
+export const DEFAULT_STEP_CAP = 10000;
 
 export interface Frame {
   readonly stats: FrameStats;
@@ -88,6 +101,9 @@ export interface RunResult {
   readonly frames: FrameStats[];
   readonly warnings: RunWarning[];
   readonly best?: { readonly step: number; readonly psnr: number };
+  readonly stopReason?: StopReason;
+  /** The tolerance of the change rule, when the run had one. */
+  readonly stopChange?: number;
 }
 
 const FLOAT32_EPS = 2 ** -23;
@@ -145,6 +161,12 @@ export class Run {
   private readonly growthBound: number;
   private readonly warned = new Set<string>();
   private best: { step: number; psnr: number } | undefined;
+  private readonly measures: boolean;
+  readonly stopChange: number | null;
+  private converged = false;
+  private readonly initialMeans: number[];
+  /** RMS change of the last step (largest over updated fields), when the change rule needs it every step. */
+  lastChangeRms = NaN;
 
   constructor(scheme: CheckedScheme, opts: RunOptions = {}) {
     this.scheme = scheme;
@@ -165,7 +187,9 @@ export class Run {
     if (!Number.isFinite(this.dt)) throw new EngineError('dt must be a finite number');
     // `until t = T` keeps T fixed when dt moves (numerics.md, "Time").
     const defaultSteps = opts.dt !== undefined && scheme.untilTime !== null ? Math.round(scheme.untilTime / this.dt) : scheme.steps;
-    this.steps = opts.steps ?? defaultSteps;
+    this.stopChange = opts.stopChange !== undefined ? opts.stopChange : scheme.untilChange ?? null;
+    if (this.stopChange !== null && !(this.stopChange > 0 && Number.isFinite(this.stopChange))) throw new EngineError('the change tolerance must be a finite number > 0');
+    this.steps = opts.steps ?? (this.stopChange !== null && scheme.untilChange == null ? DEFAULT_STEP_CAP : defaultSteps);
     if (!Number.isInteger(this.steps) || this.steps < 0) throw new EngineError('steps must be a whole number ≥ 0');
 
     const given = opts.image ?? null;
@@ -227,6 +251,8 @@ export class Run {
         hi = Math.max(hi, f.boundary.value);
       }
     });
+    this.initialMeans = scheme.fields.map((_, k) => this.fieldStats(k).mean);
+    this.measures = opts.measures ?? true;
     const m = opts.monitors ?? {};
     const wantExtremum = m.extremumCheck ?? 'auto';
     this.extremumDecision = wantExtremum === 'auto'
@@ -281,6 +307,20 @@ export class Run {
     }
     this.stepIndex++;
     this.checkMonitors();
+    if (this.stopChange !== null && this.status === 'running') {
+      let rms = 0;
+      for (const k of this.updated) rms = Math.max(rms, this.changeOf(k).rms);
+      this.lastChangeRms = rms;
+      if (rms < this.stopChange) {
+        this.converged = true;
+        this.status = 'done';
+      } else if (this.stepIndex >= this.steps) {
+        const k = this.updated[0];
+        if (k !== undefined) {
+          this.warn('no-convergence', k, { x: -1, y: -1 }, `The RMS change per step was still ${rms.toPrecision(3)} after ${this.stepIndex} steps (the cap), above the tolerance ${this.stopChange}; the run stopped at the cap.`);
+        }
+      }
+    }
     this.stepSeconds += nowSeconds() - t0;
     return this.status === 'running';
   }
@@ -325,8 +365,18 @@ export class Run {
     return this.result();
   }
 
+  /** Why the run ended (or would end now). */
+  get stopReason(): StopReason {
+    if (this.status === 'blow-up') return 'blow-up';
+    if (this.status === 'cancelled') return 'cancelled';
+    if (this.converged) return 'change';
+    return this.stopChange !== null ? 'cap' : 'steps';
+  }
+
   result(): RunResult {
     return {
+      stopReason: this.stopReason,
+      ...(this.stopChange !== null ? { stopChange: this.stopChange } : {}),
       status: this.status === 'running' ? 'done' : this.status,
       stepsDone: this.stepIndex,
       steps: this.steps,
@@ -376,13 +426,43 @@ export class Run {
     return { min: mn, max: mx, mean: sum / (g.width * g.height) };
   }
 
+  /**
+   * ‖uⁿ − uⁿ⁻¹‖ of updated field k over the interior, RMS and max. After a step the buffer swapped out
+   * (ctx.next) holds the previous values, so this is valid until the next step.
+   */
+  changeOf(k: number): { rms: number; max: number } {
+    const g = this.geometry;
+    const a = this.ctx.cur[k], b = this.ctx.next[k];
+    if (a === b || this.stepIndex === 0) return { rms: 0, max: 0 };
+    let s = 0, mx = 0;
+    for (let y = 0; y < g.height; y++) {
+      let i = (y + g.haloY) * g.pw + g.haloX;
+      for (let x = 0; x < g.width; x++, i++) {
+        const d = a[i] - b[i];
+        s += d * d;
+        const ad = Math.abs(d);
+        if (ad > mx || Number.isNaN(ad)) mx = ad;
+      }
+    }
+    return { rms: Math.sqrt(s / (g.width * g.height)), max: mx };
+  }
+
   private recordFrame(cb: RunCallbacks): void {
     const fields: Record<string, FieldStats> = {};
     const views: Record<string, NdArray<FieldArray>> = {};
     const g = this.geometry;
     this.scheme.fields.forEach((f, k) => {
-      fields[f.name] = this.fieldStats(k);
-      if (cb.onFrame) views[f.name] = ndarray(this.fieldData(k), [g.height, g.width]);
+      const base = this.fieldStats(k);
+      const data = cb.onFrame || this.measures ? this.fieldData(k) : null;
+      if (this.measures && data) {
+        const img = { width: g.width, height: g.height, data };
+        const extra: { drift: number; tv: number; energy: number; change?: { rms: number; max: number } } = {
+          drift: base.mean - this.initialMeans[k], tv: totalVariation(img), energy: dirichletEnergy(img),
+        };
+        if (f.updated && this.stepIndex > 0) extra.change = this.changeOf(k);
+        fields[f.name] = { ...base, ...extra };
+      } else fields[f.name] = base;
+      if (cb.onFrame && data) views[f.name] = ndarray(data, [g.height, g.width]);
     });
     let extra: { psnr?: number; ssim?: number } = {};
     if (this.reference) {

@@ -72,7 +72,10 @@ export interface KernelContext {
   monitor: StepMonitor;
 }
 
-export type WarningKind = 'blow-up' | 'new-extremum' | 'growth';
+export type WarningKind = 'blow-up' | 'new-extremum' | 'growth' | 'no-convergence';
+
+/** Why a run ended: its step count, the `until change < tol` rule, the step cap of that rule, a cancel or a blow-up. */
+export type StopReason = 'steps' | 'change' | 'cap' | 'cancelled' | 'blow-up';
 
 export interface RunWarning {
   readonly kind: WarningKind;
@@ -88,6 +91,13 @@ export interface FieldStats {
   readonly min: number;
   readonly max: number;
   readonly mean: number;
+  /** Per-step measures (RunOptions.measures, on by default): mean minus the field's mean at step 0. */
+  readonly drift?: number;
+  /** Isotropic total variation Σ√(dx² + dy²) and Dirichlet energy ½Σ(dx² + dy²), forward differences (numerics.md). */
+  readonly tv?: number;
+  readonly energy?: number;
+  /** ‖uⁿ − uⁿ⁻¹‖ over the pixels, RMS and max, for updated fields at steps ≥ 1. */
+  readonly change?: { readonly rms: number; readonly max: number };
 }
 
 export interface FrameStats {

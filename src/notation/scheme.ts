@@ -65,6 +65,8 @@ export interface CheckedScheme {
   readonly steps: number;
   /** Set when the count came from `until t = T`. */
   readonly untilTime: number | null;
+  /** `until change < tol`: stop once the RMS change of a step is below tol (then `steps` is the safety cap). */
+  readonly untilChange?: number | null;
   readonly functions: ReadonlyMap<string, FunctionInfo>;
   /** In dependency order: a let may read earlier lets. */
   readonly lets: readonly LetInfo[];

@@ -39,7 +39,7 @@ export interface WireVerdict {
   readonly diffusionLimit: number | null;
 }
 
-export type FindingKind = 'blow-up' | 'new-extremum' | 'growth';
+export type FindingKind = 'blow-up' | 'new-extremum' | 'growth' | 'no-convergence';
 
 export interface WireFinding {
   readonly kind: FindingKind;
@@ -443,7 +443,7 @@ function verdict(v: unknown): WireVerdict | null {
 }
 
 function finding(v: unknown): WireFinding | null {
-  const kinds: readonly unknown[] = ['blow-up', 'new-extremum', 'growth'];
+  const kinds: readonly unknown[] = ['blow-up', 'new-extremum', 'growth', 'no-convergence'];
   if (!isObj(v) || !kinds.includes(v.kind) || !int(v.step) || !int(v.x) || !int(v.y) || !str(v.field, 200) || !str(v.message)) return null;
   const r = range(v.range);
   return r ? { kind: v.kind as FindingKind, step: v.step, x: v.x, y: v.y, field: v.field, message: v.message, range: r } : null;
