@@ -12,7 +12,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { WireVerdict } from '../../protocol/preview';
-import type { AnyPicture, CompareResult, FromAnalysis, ImpulseResult, KnobSet, Picture, ToAnalysis, WeightsResult } from './analysisProtocol';
+import type { AnyPicture, ApproximatesResult, CompareResult, FromAnalysis, ImpulseResult, InfluenceResult, KnobSet, Picture, SpectrumResult, ToAnalysis, WeightsResult } from './analysisProtocol';
 
 export const ANALYSIS_BUNDLE_NAME = 'preview-analysis.js';
 
@@ -50,6 +50,9 @@ export interface AnalysisService {
   decode(bytes: Uint8Array): Promise<Picture>;
   /** A/B metrics of `result` (against `reference` and `pinned` when given); see analysisCompute.compareResult. */
   compare(result: AnyPicture, reference: AnyPicture | null, pinned: AnyPicture | null): Promise<CompareResult>;
+  spectrum(text: string, knobs: KnobSet): Promise<SpectrumResult>;
+  approximates(text: string, knobs: KnobSet): Promise<ApproximatesResult>;
+  influence(req: Omit<ToAnalysis.Influence, 'type' | 'id'>): Promise<InfluenceResult>;
   dispose(): Promise<void>;
 }
 
@@ -128,6 +131,24 @@ export class AnalysisClient implements AnalysisService {
     const m = await this.request({ type: 'compare', id: this.nextId++, result, reference, pinned });
     if (m.type !== 'compare') throw new Error('unexpected answer');
     return m.compare;
+  }
+
+  async spectrum(text: string, knobs: KnobSet): Promise<SpectrumResult> {
+    const m = await this.request({ type: 'spectrum', id: this.nextId++, text, knobs });
+    if (m.type !== 'spectrum') throw new Error('unexpected answer');
+    return m.spectrum;
+  }
+
+  async approximates(text: string, knobs: KnobSet): Promise<ApproximatesResult> {
+    const m = await this.request({ type: 'approximates', id: this.nextId++, text, knobs });
+    if (m.type !== 'approximates') throw new Error('unexpected answer');
+    return m.approximates;
+  }
+
+  async influence(req: Omit<ToAnalysis.Influence, 'type' | 'id'>): Promise<InfluenceResult> {
+    const m = await this.request({ type: 'influence', id: this.nextId++, ...req });
+    if (m.type !== 'influence') throw new Error('unexpected answer');
+    return m.influence;
   }
 
   async dispose(): Promise<void> {

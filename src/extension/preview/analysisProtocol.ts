@@ -1,8 +1,8 @@
 // Messages between the live run's host side and its analysis worker (stability verdict, weights at a pixel,
-// impulse response, scene generation and image decoding, A/B metrics). Types only; the worker parses the scheme text itself, so requests carry plain data.
+// impulse response, scene generation and image decoding, A/B metrics, frequency map, modified equation, influence map). Types only; the worker parses the scheme text itself, so requests carry plain data.
 // Must not import vscode or the DOM.
 
-import type { WireVerdict } from '../../protocol/preview';
+import type { WireRange, WireVerdict } from '../../protocol/preview';
 
 export interface KnobSet {
   readonly values: Readonly<Record<string, number>>;
@@ -41,7 +41,60 @@ export namespace ToAnalysis {
     readonly reference: AnyPicture | null;
     readonly pinned: AnyPicture | null;
   }
-  export type Type = Verdict | Weights | Impulse | Scene | Decode | Compare;
+  /** The frequency map of the scheme at these knob values (ToPreview.Spectrum without its envelope). */
+  export interface Spectrum { readonly type: 'spectrum'; readonly id: number; readonly text: string; readonly knobs: KnobSet }
+  /** What the scheme approximates (modified equation) and the diagnostics that go with it. */
+  export interface Approximates { readonly type: 'approximates'; readonly id: number; readonly text: string; readonly knobs: KnobSet }
+  /**
+   * The influence map of pixel (x, y) of `field` after `steps` steps from the run's input: the trajectory is
+   * recomputed at full resolution from `image` (null for schemes whose fields start from expressions).
+   */
+  export interface Influence {
+    readonly type: 'influence';
+    readonly id: number;
+    readonly text: string;
+    readonly knobs: KnobSet;
+    readonly image: Picture | null;
+    readonly width: number;
+    readonly height: number;
+    readonly steps: number;
+    readonly x: number;
+    readonly y: number;
+    readonly field: string;
+  }
+  export type Type = Verdict | Weights | Impulse | Scene | Decode | Compare | Spectrum | Approximates | Influence;
+}
+
+export interface SpectrumResult {
+  readonly dims: 1 | 2;
+  readonly cols: number;
+  readonly rows: number;
+  readonly amp: Float32Array;
+  readonly lo: number;
+  readonly hi: number;
+  readonly edge: number[];
+  readonly peak: { readonly value: number; readonly theta: number[] };
+  readonly isotropy: { readonly radius: number; readonly angles: number[]; readonly error: number[] } | null;
+  readonly note: string;
+}
+
+export interface ApproximatesResult {
+  readonly text: string;
+  readonly details: string[];
+  readonly warnings: { readonly severity: 'warning' | 'info'; readonly message: string; readonly range: WireRange | null }[];
+}
+
+export interface InfluenceResult {
+  readonly steps: number;
+  readonly field: string;
+  readonly x0: number;
+  readonly y0: number;
+  readonly width: number;
+  readonly height: number;
+  readonly data: Float32Array;
+  readonly sum: number;
+  readonly peak: number;
+  readonly note: string | null;
 }
 
 export interface SideMetrics {
@@ -96,6 +149,9 @@ export namespace FromAnalysis {
   export interface Scene { readonly type: 'scene'; readonly id: number; readonly noisy: Picture; readonly clean: Picture }
   export interface Decode { readonly type: 'decode'; readonly id: number; readonly picture: Picture }
   export interface Compare { readonly type: 'compare'; readonly id: number; readonly compare: CompareResult }
+  export interface Spectrum { readonly type: 'spectrum'; readonly id: number; readonly spectrum: SpectrumResult }
+  export interface Approximates { readonly type: 'approximates'; readonly id: number; readonly approximates: ApproximatesResult }
+  export interface Influence { readonly type: 'influence'; readonly id: number; readonly influence: InfluenceResult }
   export interface Failed { readonly type: 'error'; readonly id: number; readonly message: string }
-  export type Type = Verdict | Weights | Impulse | Scene | Decode | Compare | Failed;
+  export type Type = Verdict | Weights | Impulse | Scene | Decode | Compare | Spectrum | Approximates | Influence | Failed;
 }

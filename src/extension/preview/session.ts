@@ -12,7 +12,7 @@ import { canonicalScheme } from '../../engine/plan';
 import { parse, parseAndCheck } from '../../notation';
 import type { SourceRange } from '../../notation/ast';
 import type { CheckedScheme } from '../../notation/scheme';
-import type { FromPreview, InputChoice, KnobSpec, ToPreview, WirePinned, WireRange } from '../../protocol/preview';
+import type { FromPreview, InputChoice, KnobSpec, ToPreview, WireMeasures, WirePinned, WireRange } from '../../protocol/preview';
 import type { AnalysisService } from './analysisClient';
 import type { KnobSet, SideMetrics } from './analysisProtocol';
 import { restorePinned, storePinned, type PinnedResult, type StoredPinned } from './baseline';
@@ -134,6 +134,20 @@ export function inputLabel(input: InputChoice): string {
   return decodeURIComponent(tail);
 }
 
+/** The per-step measures the engine reports with a field's statistics (when it measures them). */
+interface MeasuredStats {
+  readonly drift?: number;
+  readonly tv?: number;
+  readonly energy?: number;
+  readonly change?: { readonly rms: number; readonly max: number };
+}
+
+/** The engine's per-step measures of one field as the wire carries them; null when the engine reported none. */
+export function wireMeasures(st: MeasuredStats): WireMeasures | null {
+  if (st.drift === undefined && st.tv === undefined && st.energy === undefined && st.change === undefined) return null;
+  return { drift: st.drift ?? null, tv: st.tv ?? null, energy: st.energy ?? null, changeRms: st.change?.rms ?? null, changeMax: st.change?.max ?? null };
+}
+
 /** current − pinned per metric; null where either side has none. */
 export function metricDelta(current: SideMetrics, pinned: SideMetrics): SideMetrics {
   const d = (a: number | null, b: number | null) => (a === null || b === null ? null : a - b);
@@ -167,6 +181,10 @@ interface LiveRun {
   impulse: ToPreview.Impulse | null;
   /** The clean reference the run's PSNR is measured against (scenes), or null. */
   readonly reference: GreyPicture | null;
+  /** The input picture the run started from (fields `= image`), or null. */
+  readonly image: GreyPicture | null;
+  spectrum: ToPreview.Spectrum | null;
+  approximates: ToPreview.Approximates | null;
   /** The run's knob values and input in words, for the label of a pinned result. */
   readonly label: string;
   /** Milliseconds per step between recorded frames (NaN until two frames arrived). */
@@ -414,7 +432,7 @@ export class PreviewSession {
     const knobWords = [...Object.entries(knobs.values).map(([k, v]) => `${k} = ${Number(v.toPrecision(4))}`), `dt = ${Number(knobs.dt.toPrecision(4))}`].join(', ');
     const run: LiveRun = {
       runId, text: g.text, scheme: s, knobs, started, shrink, handle: null, engine: null, frames: [], findings: [], ended: null,
-      verdict: null, impulse: null, reference: needsImage ? reference : null, label: needsImage ? `${knobWords} · ${inputLabel(input)}` : knobWords,
+      verdict: null, impulse: null, reference: needsImage ? reference : null, image: needsImage ? image : null, spectrum: null, approximates: null, label: needsImage ? `${knobWords} · ${inputLabel(input)}` : knobWords,
       stepMs: NaN, launchedAt: NaN,
     };
     this.run = run;
@@ -486,6 +504,21 @@ export class PreviewSession {
       (err: unknown) => this.env.log?.(`verdict failed: ${String(err)}`),
     );
     this.requestImpulse(run, steps);
+    // What the stencil approximates and its frequency map, for these knob values (recomputed on every edit).
+    this.env.analysis.approximates(g.text, knobs).then(
+      (a) => {
+        run.approximates = { type: 'approximates', source: this.env.source, runId, ...a };
+        if (this.run === run) this.env.post(run.approximates);
+      },
+      (err: unknown) => this.env.log?.(`modified equation failed: ${String(err)}`),
+    );
+    this.env.analysis.spectrum(g.text, knobs).then(
+      (m) => {
+        run.spectrum = { type: 'spectrum', source: this.env.source, runId, ...m };
+        if (this.run === run) this.env.post(run.spectrum);
+      },
+      (err: unknown) => this.env.log?.(`frequency map failed: ${String(err)}`),
+    );
   }
 
   private requestImpulse(run: LiveRun, steps: number): void {
@@ -519,10 +552,12 @@ export class PreviewSession {
     // At full size the stored Float32 snapshot is posted as it is (posting copies it); otherwise it is averaged down.
     const small = run.shrink === 1 && snap.data instanceof Float32Array ? { width: snap.width, height: snap.height, data: snap.data } : downsample(snap, run.shrink);
     const st = frame.stats.fields[name] ?? { min: NaN, max: NaN, mean: NaN };
+    const measures = wireMeasures(st);
     this.env.post({
       type: 'frame', source: this.env.source, runId: run.runId, field: name, step: frame.step, t: frame.t,
       width: small.width, height: small.height, data: small.data, stats: { min: st.min, max: st.max, mean: st.mean },
       psnr: typeof frame.stats.psnr === 'number' && name === run.started.field ? frame.stats.psnr : null,
+      ...(measures ? { measures } : {}),
     });
   }
 
@@ -537,6 +572,8 @@ export class PreviewSession {
     for (const f of r.findings) this.env.post(f);
     if (r.verdict) this.env.post(r.verdict);
     if (r.impulse) this.env.post(r.impulse);
+    if (r.approximates) this.env.post(r.approximates);
+    if (r.spectrum) this.env.post(r.spectrum);
     if (r.ended) this.env.post(r.ended);
     if (this.pinned) this.postPinned();
   }
@@ -708,6 +745,33 @@ export class PreviewSession {
       case 'requestComparison':
         await this.compare(msg.runId, msg.step);
         return;
+      case 'requestInfluence':
+        await this.influence(msg);
+        return;
+    }
+  }
+
+  /**
+   * The influence map of a pixel at a recorded step: the analysis thread replays the run from its input at full
+   * resolution (the same knobs, the same picture) and sweeps the frozen weights backwards over those states.
+   */
+  private async influence(msg: FromPreview.RequestInfluence): Promise<void> {
+    const r = this.run;
+    if (!r || r.runId !== msg.runId || msg.x >= r.started.width || msg.y >= r.started.height) return;
+    if (!r.frames.some((f) => f.step === msg.step)) return;
+    const name = r.scheme.fields.some((f) => f.name === this.shownField && f.updated) ? (this.shownField as string) : r.started.field;
+    if (msg.step === 0) {
+      this.env.post({ type: 'notice', source: this.env.source, level: 'info', text: 'The influence map needs a step after the start: at step 0 each pixel is its own input.' });
+      return;
+    }
+    try {
+      const m = await this.env.analysis.influence({
+        text: r.text, knobs: r.knobs, image: r.image, width: r.started.width, height: r.started.height, steps: msg.step, x: msg.x, y: msg.y, field: name,
+      });
+      if (this.run !== r) return;
+      this.env.post({ type: 'influence', source: this.env.source, runId: r.runId, step: msg.step, x: msg.x, y: msg.y, ...m });
+    } catch (err) {
+      this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `The influence map of (${msg.x}, ${msg.y}) could not be computed: ${err instanceof Error ? err.message : String(err)}` });
     }
   }
 

@@ -12,7 +12,7 @@ import type { AnalysisService } from '../../../src/extension/preview/analysisCli
 import { PreviewSession, type EngineLike, type FitJob, type FitOutcome, type SessionEnv } from '../../../src/extension/preview/session';
 import type { BackendChoice } from '../../../src/engine/wasm/select';
 import type { InputChoice, ToPreview } from '../../../src/protocol/preview';
-import { compareResult } from '../../../src/extension/preview/analysisCompute';
+import { compareResult, computeApproximates, computeInfluence, computeSpectrum } from '../../../src/extension/preview/analysisCompute';
 
 const SCHEME = [
   'grid 2d',
@@ -69,6 +69,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
   const runs: FakeRun[] = [];
   const engines: FakeEngine[] = [];
   const weightsCalls: Parameters<AnalysisService['weights']>[0][] = [];
+  const influenceCalls: Parameters<AnalysisService['influence']>[0][] = [];
   const analysis: AnalysisService = {
     verdict: async (_t, knobs) => ({
       verdict: { method: 'positivity', limit: 0.25, dt: knobs.dt, stable: knobs.dt <= 0.25, reason: 'r', estimate: false, unconditional: false, positivityLimit: null, diffusionLimit: null },
@@ -82,6 +83,9 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
     scene: async (_name, _noise, _seed, size) => ({ noisy: { width: size, height: size, data: new Float32Array(size * size).fill(0.5) }, clean: { width: size, height: size, data: new Float32Array(size * size) } }),
     decode: async () => ({ width: 1, height: 1, data: new Float32Array(1) }),
     compare: async (result, reference, pinned) => compareResult(result, reference, pinned),
+    spectrum: async (text, knobs) => computeSpectrum(text, knobs),
+    approximates: async (text, knobs) => computeApproximates(text, knobs),
+    influence: async (req) => { influenceCalls.push(req); return computeInfluence(req); },
     dispose: async () => undefined,
   };
   const edits: { edits: unknown; text: string }[] = [];
@@ -115,7 +119,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
   };
   const session = new PreviewSession(env);
   const of = <T extends ToPreview.Type['type']>(type: T) => posted.filter((m): m is Extract<ToPreview.Type, { type: T }> => m.type === type);
-  return { session, posted, runs, engines, weightsCalls, edits, revealed, remembered, rememberedKnobs, rememberedPinned, offers, of };
+  return { session, posted, runs, engines, weightsCalls, influenceCalls, edits, revealed, remembered, rememberedKnobs, rememberedPinned, offers, of };
 }
 
 /** Lets pending promise callbacks run (no timers involved). */
@@ -353,7 +357,7 @@ describe('live run session', async () => {
     const n = posted.length;
     await session.handle({ type: 'ready', source: 'file:///w/a.fluxel' });
     const replayed = posted.slice(n).map((m) => m.type);
-    expect(replayed).toEqual(['scheme', 'runStarted', 'frame', 'finding', 'verdict', 'impulse', 'runEnded']);
+    expect(replayed).toEqual(['scheme', 'runStarted', 'frame', 'finding', 'verdict', 'impulse', 'approximates', 'spectrum', 'runEnded']);
     expect(of('runEnded')[0]).toMatchObject({ status: 'done', stepsDone: 4 });
   });
 
@@ -590,5 +594,71 @@ describe('A/B: a pinned result', () => {
     expect(c?.note).toMatch(/8×4.*32×32/);
     // The file input has no clean reference: the pinned side has TV only.
     expect(c?.pinned).toMatchObject({ psnr: null, ssim: null });
+  });
+});
+
+describe('what the scheme approximates, its frequency map, its influence map and per-step measures', () => {
+  const src = 'file:///w/a.fluxel';
+
+  it('posts the modified-equation summary and the frequency map with every run, for the knob values of that run', async () => {
+    const t = setup();
+    t.session.documentChanged(SCHEME);
+    await settle();
+    const a = t.of('approximates').at(-1);
+    // u' = u + dt·K·Σ_N4 (u[n] − u) with h = 1 approximates u_t = K·Δu (5-point Laplacian; common practice).
+    expect(a?.runId).toBe(t.session.currentRunId);
+    expect(a?.text).toMatch(/0\.5·Δu/);
+    const m = t.of('spectrum').at(-1);
+    expect(m).toMatchObject({ dims: 2, runId: t.session.currentRunId });
+    // G(θ) = 1 − 4·dt·K·(sin²(θx/2) + sin²(θy/2)) (von Neumann analysis of the 5-point heat scheme, common
+    // practice): with dt·K = 0.1 the smallest |G| is 1 − 0.8 = 0.2 at (π, π) and the largest 1 at θ = 0.
+    expect(m?.peak.value).toBeCloseTo(1, 9);
+    expect(m?.lo).toBeCloseTo(0.2, 6);
+    expect(m?.edge).toEqual([]);
+    // Moving K to 1 with dt 0.3 puts dt·K over 1/4: |G(π, π)| = |1 − 2.4| = 1.4 and the stable edge appears.
+    await t.session.handle({ type: 'setKnobs', source: src, values: { K: 1 }, dt: 0.3 });
+    await settle();
+    const over = t.of('spectrum').at(-1);
+    expect(over?.runId).toBe(t.session.currentRunId);
+    expect(over?.peak.value).toBeCloseTo(1.4, 9);
+    expect(over?.edge.length).toBeGreaterThan(0);
+    expect(t.of('approximates').at(-1)?.text).toMatch(/1·Δu/);
+  });
+
+  it('answers an influence request from the run\'s own input, at full resolution, for the picked pixel and step', async () => {
+    const t = setup({ input: { kind: 'file', uri: 'file:///w/pic.png' } });
+    t.session.documentChanged(SCHEME);
+    await settle();
+    const run = t.runs.at(-1) as FakeRun;
+    for (let k = 0; k <= 2; k++) run.cb.onFrame?.(stats(k), { u: snapshot(8, 4, () => 0.25) });
+    const runId = t.session.currentRunId as number;
+    await t.session.handle({ type: 'requestInfluence', source: src, runId, step: 2, x: 3, y: 1 });
+    expect(t.influenceCalls[0]).toMatchObject({ steps: 2, x: 3, y: 1, field: 'u', width: 8, height: 4, knobs: { values: { K: 0.5 }, dt: 0.2 } });
+    expect(t.influenceCalls[0].image?.width).toBe(8);
+    const m = t.of('influence').at(-1);
+    // Two steps of a 5-point stencil reach two cells in each direction (clipped by the 8×4 grid's edges).
+    expect(m).toMatchObject({ runId, step: 2, x: 3, y: 1, steps: 2, field: 'u', x0: 1, y0: 0, width: 5, height: 4 });
+    // A scheme that keeps constants, with reflecting boundaries: the weights sum to 1 (common practice).
+    expect(m?.sum).toBeCloseTo(1, 6);
+    // Other runs' requests and step 0 get no map.
+    await t.session.handle({ type: 'requestInfluence', source: src, runId: runId + 5, step: 2, x: 3, y: 1 });
+    await t.session.handle({ type: 'requestInfluence', source: src, runId, step: 0, x: 3, y: 1 });
+    expect(t.of('influence').length).toBe(1);
+    expect(t.of('notice').at(-1)?.text).toMatch(/step after the start/);
+  });
+
+  it('passes the engine\'s per-step measures of the shown field on with its frames', async () => {
+    const t = setup();
+    t.session.documentChanged(SCHEME);
+    await settle();
+    const run = t.runs.at(-1) as FakeRun;
+    const st = (step: number): FrameStats => ({ step, t: step * 0.2, fields: { u: { min: 0, max: 1, mean: 0.5, drift: 1e-8, tv: 10 - step, energy: 3, ...(step ? { change: { rms: 0.01, max: 0.1 } } : {}) } } });
+    run.cb.onFrame?.(st(0), { u: snapshot(32, 32, () => 0) });
+    run.cb.onFrame?.(st(1), { u: snapshot(32, 32, () => 0) });
+    const [f0, f1] = t.of('frame');
+    expect(f0.measures).toEqual({ drift: 1e-8, tv: 10, energy: 3, changeRms: null, changeMax: null });
+    expect(f1.measures).toEqual({ drift: 1e-8, tv: 9, energy: 3, changeRms: 0.01, changeMax: 0.1 });
+    run.cb.onFrame?.(stats(2), { u: snapshot(32, 32, () => 0) });
+    expect(t.of('frame').at(-1)?.measures).toBeUndefined();
   });
 });
