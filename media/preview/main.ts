@@ -91,7 +91,6 @@ for (const [mode, label, key] of [['now', 'now', 'n'], ['start', 'start', 's'], 
 viewBar.append(button('fit', 'fit the picture (key 0)', () => { fitView(); draw(); }));
 // A/B: pins the shown step of this run as the baseline the next runs are compared with.
 const pinBtn = button('pin this step', 'pin the shown step as the baseline for A/B comparison (kept across edits)', () => pinCurrent());
-viewBar.append(h('span', { class: 'spacer' }), pinBtn);
 const legendSwatch = h('span', { class: 'swatch' });
 const legendText = h('span');
 const legendEl = h('div', { class: 'legend', 'aria-hidden': 'true' }, legendSwatch, legendText);
@@ -111,6 +110,7 @@ const scrubber = h('div', { class: 'scrubber' },
     button('▶|', 'last step (key End)', () => showIndex(store.last)),
   ),
   scrub,
+  h('div', { class: 'row' }, pinBtn),
 );
 const fieldSel = h('select', { id: 'field', 'aria-label': 'field shown' });
 const fieldRow = h('div', { class: 'row', hidden: '' }, h('label', { for: 'field', text: 'field' }), fieldSel);

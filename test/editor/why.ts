@@ -41,7 +41,7 @@ function register(): void {
   test('the influence map of a picked pixel lies over the input and changes the picture around it', async () => {
     await openWithLiveRun('edge-preserving.fluxel');
     const r = await probe<{ influence: string; meanDiff: number; coloured: number; pixels: number; legend: string; readout: string; shot: { path: string; colours: number } }>(
-      'liverun', JSON.stringify({ action: 'influence', pick: [0.55, 0.5], name: 'influence-map' }));
+      'liverun', JSON.stringify({ action: 'influence', pick: [0.55, 0.5], zoom: 7, name: 'influence-map' }));
     info(`influence at ${r.influence}: mean |overlay − plain| ${r.meanDiff.toFixed(1)} per pixel near the pick, ${r.coloured} of ${r.pixels} pixels coloured; "${r.readout}"; legend "${r.legend}"; screenshot ${r.shot.path}`);
     assert.match(r.readout, /^influence of the input on u at \(\d+, \d+\), step \d+ \(\d+ steps\): sum [\d.]+, largest /);
     assert.ok(r.meanDiff > 20, `the overlay changes the picture around the picked pixel (${r.meanDiff})`);

@@ -260,6 +260,15 @@ export async function liveRunProbe(page, extra, outDir) {
       }
       const legend = await f.locator('.legend').innerText();
       const readout = await f.locator('.readout').innerText();
+      // For the picture, zoom in around the picked pixel (wheel over it), so the map is large enough to read.
+      if (req.zoom) {
+        await f.evaluate(([x, y, n]) => {
+          const c = document.querySelector('canvas.picture');
+          const r = c.getBoundingClientRect();
+          for (let k = 0; k < n; k++) c.dispatchEvent(new WheelEvent('wheel', { deltaY: -100, clientX: r.left + x, clientY: r.top + y, bubbles: true, cancelable: true }));
+        }, [at.x, at.y, req.zoom]);
+      }
+      if (req.zoom) await page.waitForTimeout(300);
       let shot = null;
       if (req.name) {
         const path = join(outDir, `${req.name}.png`);

@@ -12,7 +12,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { WireVerdict } from '../../protocol/preview';
-import type { AnyPicture, ApproximatesResult, CompareResult, FromAnalysis, ImpulseResult, InfluenceResult, KnobSet, Picture, SpectrumResult, ToAnalysis, WeightsResult } from './analysisProtocol';
+import type { AnyPicture, ApproximatesResult, CompareResult, FrozenAt, FromAnalysis, ImpulseResult, InfluenceResult, KnobSet, Picture, SpectrumResult, ToAnalysis, WeightsResult } from './analysisProtocol';
 
 export const ANALYSIS_BUNDLE_NAME = 'preview-analysis.js';
 
@@ -51,7 +51,7 @@ export interface AnalysisService {
   /** A/B metrics of `result` (against `reference` and `pinned` when given); see analysisCompute.compareResult. */
   compare(result: AnyPicture, reference: AnyPicture | null, pinned: AnyPicture | null): Promise<CompareResult>;
   spectrum(text: string, knobs: KnobSet): Promise<SpectrumResult>;
-  approximates(text: string, knobs: KnobSet): Promise<ApproximatesResult>;
+  approximates(text: string, knobs: KnobSet, at?: FrozenAt): Promise<ApproximatesResult>;
   influence(req: Omit<ToAnalysis.Influence, 'type' | 'id'>): Promise<InfluenceResult>;
   dispose(): Promise<void>;
 }
@@ -139,8 +139,8 @@ export class AnalysisClient implements AnalysisService {
     return m.spectrum;
   }
 
-  async approximates(text: string, knobs: KnobSet): Promise<ApproximatesResult> {
-    const m = await this.request({ type: 'approximates', id: this.nextId++, text, knobs });
+  async approximates(text: string, knobs: KnobSet, at?: FrozenAt): Promise<ApproximatesResult> {
+    const m = await this.request({ type: 'approximates', id: this.nextId++, text, knobs, ...(at ? { at } : {}) });
     if (m.type !== 'approximates') throw new Error('unexpected answer');
     return m.approximates;
   }

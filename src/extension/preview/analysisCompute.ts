@@ -20,7 +20,7 @@ import { makeScene } from '../../images/scenes';
 import { parseAndCheck } from '../../notation';
 import type { CheckedScheme } from '../../notation/scheme';
 import type { WireVerdict } from '../../protocol/preview';
-import type { ApproximatesResult, CompareResult, ImpulseResult, InfluenceResult, KnobSet, Picture, SideMetrics, SpectrumResult, WeightsResult } from './analysisProtocol';
+import type { ApproximatesResult, CompareResult, FrozenAt, ImpulseResult, InfluenceResult, KnobSet, Picture, SideMetrics, SpectrumResult, WeightsResult } from './analysisProtocol';
 
 let lastText: string | null = null;
 let lastScheme: CheckedScheme | null = null;
@@ -137,11 +137,13 @@ export function levelSegments(values: ArrayLike<number>, axis: ArrayLike<number>
 export function computeSpectrum(text: string, knobs: KnobSet): SpectrumResult {
   const scheme = schemeWithKnobs(text, knobs);
   const m = frequencyMap(scheme, { dt: knobs.dt, params: knobs.values });
-  const where = m.linear ? 'exact for this linear scheme' : `frozen coefficients at (${m.at?.x ?? '?'}, ${m.at?.y ?? '?'}) of the initial state`;
+  const where = m.linear ? 'exact for this linear scheme' : `frozen coefficients at (${m.at?.x ?? '?'}, ${m.at?.y ?? '?'}) of a flat state`;
+  // A map whose |G| is constant up to rounding (e.g. |G| = 1 everywhere) is shown on 0 … hi, not as rounding noise.
+  const flat = m.colourRange.hi - m.colourRange.lo < 1e-6 * Math.max(1, m.colourRange.hi);
   const unstable = m.unstableCount > 0 ? `|G| > 1 on ${m.unstableCount} of ${m.width * m.height} frequencies (inside the accent edge)` : 'no frequency grows (|G| ≤ 1 everywhere)';
   return {
     dims: m.dims, cols: m.width, rows: m.height, amp: Float32Array.from(m.amplitude),
-    lo: m.colourRange.lo, hi: m.colourRange.hi > m.colourRange.lo ? m.colourRange.hi : m.colourRange.lo + 1,
+    lo: flat ? 0 : m.colourRange.lo, hi: m.colourRange.hi > 0 ? m.colourRange.hi : 1,
     edge: levelSegments(m.amplitude, m.axis, m.width, m.height, 1 + MARGIN),
     peak: { value: m.maxAmplitude, theta: [...m.worstTheta] },
     isotropy: m.isotropy ? { radius: m.isotropy.radius, angles: Array.from(m.isotropy.angles), error: Array.from(m.isotropy.relError) } : null,
@@ -152,12 +154,14 @@ export function computeSpectrum(text: string, knobs: KnobSet): SpectrumResult {
 const wire = (r: SourceRange) => ({ start: { line: r.start.line, column: r.start.column }, end: { line: r.end.line, column: r.end.column } });
 
 /** What the scheme approximates (src/analysis/modifiedEquation.ts): the summary line, per-field details, warnings. */
-export function computeApproximates(text: string, knobs: KnobSet): ApproximatesResult {
+export function computeApproximates(text: string, knobs: KnobSet, at?: FrozenAt): ApproximatesResult {
   const scheme = schemeWithKnobs(text, knobs);
-  const me = modifiedEquation(scheme, { dt: knobs.dt, params: knobs.values });
+  const state = at ? { width: at.width, height: at.height, fields: at.fields, t: at.t } : undefined;
+  const me = modifiedEquation(scheme, { dt: knobs.dt, params: knobs.values, ...(state && at ? { state, x: at.x, y: at.y } : {}) });
   const order = (v: number | null) => (v === null ? '?' : String(v));
   const details = me.fields.map((f) => `${f.text}; leading error ${f.leadingError?.text ?? 'none found'}; order ${order(f.orderSpace)} in space, ${order(f.orderTime)} in time`);
-  details.push(me.linear ? 'Exact: the scheme is linear with constant coefficients.' : `Frozen coefficients at (${me.at?.x ?? '?'}, ${me.at?.y ?? '?'}) of the initial state (the scheme is not linear).`);
+  const where = at ? `of the run's state at step ${at.step}` : 'of a flat state';
+  details.push(me.linear ? 'Exact: the scheme is linear with constant coefficients.' : `Frozen coefficients at (${me.at?.x ?? '?'}, ${me.at?.y ?? '?'}) ${where} (the scheme is not linear).`);
   const warnings = modifiedEquationDiagnostics(scheme, me)
     .filter((d) => d.severity !== 'error')
     .map((d) => ({ severity: d.severity === 'warning' ? 'warning' as const : 'info' as const, message: d.message, range: wire(d.range) }));

@@ -44,7 +44,14 @@ export namespace ToAnalysis {
   /** The frequency map of the scheme at these knob values (ToPreview.Spectrum without its envelope). */
   export interface Spectrum { readonly type: 'spectrum'; readonly id: number; readonly text: string; readonly knobs: KnobSet }
   /** What the scheme approximates (modified equation) and the diagnostics that go with it. */
-  export interface Approximates { readonly type: 'approximates'; readonly id: number; readonly text: string; readonly knobs: KnobSet }
+  export interface Approximates {
+    readonly type: 'approximates';
+    readonly id: number;
+    readonly text: string;
+    readonly knobs: KnobSet;
+    /** Freeze the coefficients at this pixel of this full-resolution state (a picked pixel); default the initial state. */
+    readonly at?: FrozenAt;
+  }
   /**
    * The influence map of pixel (x, y) of `field` after `steps` steps from the run's input: the trajectory is
    * recomputed at full resolution from `image` (null for schemes whose fields start from expressions).
@@ -63,6 +70,17 @@ export namespace ToAnalysis {
     readonly field: string;
   }
   export type Type = Verdict | Weights | Impulse | Scene | Decode | Compare | Spectrum | Approximates | Influence;
+}
+
+/** A pixel of a full-resolution state (every field, indexed like scheme.fields) at a recorded step. */
+export interface FrozenAt {
+  readonly fields: readonly Float32Array[] | readonly Float64Array[];
+  readonly width: number;
+  readonly height: number;
+  readonly t: number;
+  readonly step: number;
+  readonly x: number;
+  readonly y: number;
 }
 
 export interface SpectrumResult {

@@ -861,6 +861,16 @@ export class PreviewSession {
       this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `Weights at (${msg.x}, ${msg.y}) could not be computed: ${err instanceof Error ? err.message : String(err)}` });
     }
     if (msg.step > 0) this.requestImpulse(r, msg.step);
+    // What the scheme approximates with its coefficients frozen at the picked pixel of this step's state (for
+    // linear schemes the same as before; for others it follows the pixel).
+    this.env.analysis.approximates(r.text, r.knobs, { fields: fields as Float32Array[], width: r.started.width, height: r.started.height, t: frame.t, step: msg.step, x: msg.x, y: msg.y }).then(
+      (a) => {
+        if (this.run !== r) return;
+        r.approximates = { type: 'approximates', source: this.env.source, runId: r.runId, ...a };
+        this.env.post(r.approximates);
+      },
+      (err: unknown) => this.env.log?.(`modified equation at (${msg.x}, ${msg.y}) failed: ${String(err)}`),
+    );
   }
 
   /** The id of the run whose frames are current (for tests and the bench). */

@@ -84,7 +84,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
     decode: async () => ({ width: 1, height: 1, data: new Float32Array(1) }),
     compare: async (result, reference, pinned) => compareResult(result, reference, pinned),
     spectrum: async (text, knobs) => computeSpectrum(text, knobs),
-    approximates: async (text, knobs) => computeApproximates(text, knobs),
+    approximates: async (text, knobs, at) => computeApproximates(text, knobs, at),
     influence: async (req) => { influenceCalls.push(req); return computeInfluence(req); },
     dispose: async () => undefined,
   };
@@ -645,6 +645,23 @@ describe('what the scheme approximates, its frequency map, its influence map and
     await t.session.handle({ type: 'requestInfluence', source: src, runId, step: 0, x: 3, y: 1 });
     expect(t.of('influence').length).toBe(1);
     expect(t.of('notice').at(-1)?.text).toMatch(/step after the start/);
+  });
+
+  it('freezes the summary\'s coefficients at a picked pixel of the full-resolution state at that step', async () => {
+    const edge = SCHEME.replace("u' = u + dt * K * sum n in N4: u[n] - u", "u' = u + dt * sum n in N4: (u[n] - u) / (1 + ((u[n] - u) / K)^2)");
+    const t = setup();
+    t.session.documentChanged(edge);
+    await settle();
+    expect(t.of('approximates').at(-1)?.details.at(-1)).toMatch(/of a flat state/);
+    const run = t.runs.at(-1) as FakeRun;
+    run.cb.onFrame?.(stats(0), { u: snapshot(32, 32, (i) => (i % 32 < 16 ? 0 : 1)) });
+    run.cb.onFrame?.(stats(1), { u: snapshot(32, 32, (i) => (i % 32 < 16 ? 0 : 1)) });
+    await t.session.handle({ type: 'pickPixel', source: src, runId: t.session.currentRunId as number, step: 1, x: 15, y: 4 });
+    await settle();
+    const a = t.of('approximates').at(-1);
+    expect(a?.details.at(-1)).toMatch(/^Frozen coefficients at \(15, 4\) of the run's state at step 1/);
+    // Across the step edge the diffusivity 1/(1 + (1/K)²) = 0.2 (K = 0.5) weakens the x-direction: no longer isotropic.
+    expect(a?.text).toMatch(/anisotropic/);
   });
 
   it('passes the engine\'s per-step measures of the shown field on with its frames', async () => {
