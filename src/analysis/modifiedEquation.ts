@@ -456,7 +456,6 @@ export function modifiedEquation(scheme: CheckedScheme, opts: FrozenOptions = {}
           orderSpace = spacePart.length ? q - (principalOrders.filter((o) => o > 0)[0] ?? leadingOrder) : null;
         }
         orderTime = ts ? ts.p : null;
-        if (!C) timePart = [];
         const pS = readsH || h === 1 ? orderSpace : null;
         const pieces: string[] = [];
         if (spacePart.length) pieces.push(termText(spacePart, name, scheme.dims, h, pS));
@@ -474,7 +473,8 @@ export function modifiedEquation(scheme: CheckedScheme, opts: FrozenOptions = {}
       }
     }
 
-    const drift = scheme.dims === 2 ? [-coefOf(M[1], 1, 0), -coefOf(M[1], 0, 1)] : [-coefOf(M[1], 1, 0)];
+    const neg = (v: number) => (v === 0 ? 0 : -v);
+    const drift = scheme.dims === 2 ? [neg(coefOf(M[1], 1, 0)), neg(coefOf(M[1], 0, 1))] : [neg(coefOf(M[1], 1, 0))];
     // Diffusion tensor: u_t = Dxx u_xx + 2 Dxy u_xy + Dyy u_yy; the xy moment is 2·Dxy.
     const D2 = M[2];
     const diffusion = scheme.dims === 2
@@ -543,7 +543,9 @@ export function modifiedEquationDiagnostics(scheme: CheckedScheme, me: ModifiedE
       const perDt = f.sourceScaling !== null && Math.abs(f.sourceScaling + 1) < 0.01;
       const single = me.fields.length === 1;
       out.push({
-        range, severity: single ? 'warning' : 'info', code: 'source-term', data: { field: f.field, source: f.source },
+        // A warning for linear single-field schemes and for any term that scales like 1/dt (a slip); information for
+        // systems and for the linearised reaction of nonlinear schemes (e.g. u − u³), which are sources on purpose.
+        range, severity: perDt || (single && me.linear) ? 'warning' : 'info', code: 'source-term', data: { field: f.field, source: f.source },
         message: `The weights of ${f.field}'s spatial operator sum to ${fmt(f.source)} instead of 0: a ${f.source > 0 ? 'source' : 'sink'} term ${fmt(f.source)}·${f.field} (${f.field} ${f.source > 0 ? 'grows' : 'decays'} like e^(${fmt(f.source)}·t))${perDt ? `; it scales like 1/dt, so a term is probably not multiplied by dt (a stray ${fmt(f.source * me.dt)}·${f.field}?)` : ''}${where}.`,
       });
     }
@@ -575,4 +577,30 @@ export function modifiedEquationDiagnostics(scheme: CheckedScheme, me: ModifiedE
     }
   }
   return out;
+}
+
+/** modifiedEquation and its diagnostics for `fluxel check` and the editor; never throws (null when it cannot evaluate). */
+export function analyseWhy(scheme: CheckedScheme, opts: FrozenOptions = {}): { equation: ModifiedEquation | null; diagnostics: Diagnostic[]; error?: string } {
+  if (scheme.updates.length === 0) return { equation: null, diagnostics: [] };
+  try {
+    const equation = modifiedEquation(scheme, opts);
+    return { equation, diagnostics: modifiedEquationDiagnostics(scheme, equation) };
+  } catch (err) {
+    return { equation: null, diagnostics: [], error: err instanceof Error ? err.message : String(err) };
+  }
+}
+
+/** The JSON form of a modified equation for `fluxel check --json` ("approximates"): plain numbers and text. */
+export function modifiedEquationJson(me: ModifiedEquation): Record<string, unknown> {
+  const terms = (ts: readonly Term[]) => ts.map((t) => ({ dx: t.i, dy: t.j, coef: t.coef }));
+  return {
+    summary: me.summary, linear: me.linear, at: me.at, spacing: me.spacing, dt: me.dt,
+    fields: me.fields.map((f) => ({
+      field: f.field, equation: f.text, kind: f.kind, source: f.source, drift: f.drift, diffusion: f.diffusion, anisotropy: f.anisotropy,
+      leadingError: f.leadingError && { order: f.leadingError.order, text: f.leadingError.text, terms: terms(f.leadingError.terms), spacePart: terms(f.leadingError.spacePart), timePart: terms(f.leadingError.timePart) },
+      orderSpace: f.orderSpace, orderTime: f.orderTime,
+      moments: f.moments.map(terms),
+      modified: f.modified ? f.modified.map(terms) : null,
+    })),
+  };
 }

@@ -17,7 +17,7 @@ import { spectralRadius } from './stabilityEigen';
 import { MARGIN, symbol } from './stabilityVonNeumann';
 
 export interface FrequencyMapOptions extends FrozenOptions {
-  /** Samples per axis over [−π, π] (odd, so 0 and ±π are included); default 129 in 2d, 513 in 1d. */
+  /** Samples per axis over [−π, π] (odd, so 0 and ±π are included); default 101 in 2d, 501 in 1d (ticks at 0.4π). */
   readonly samples?: number;
   /** |θ| of the isotropy circle; default π/2. */
   readonly radius?: number;
@@ -86,7 +86,7 @@ export function frequencyMap(scheme: CheckedScheme, opts: FrequencyMapOptions = 
   const dt = opts.dt ?? scheme.dt;
   const w = frozenStencil(scheme, { ...opts, dt });
   const dims = scheme.dims;
-  let n = Math.max(3, Math.floor(opts.samples ?? (dims === 2 ? 129 : 513)));
+  let n = Math.max(3, Math.floor(opts.samples ?? (dims === 2 ? 101 : 501)));
   if (n % 2 === 0) n += 1;
   const axis = new Float64Array(n);
   for (let k = 0; k < n; k++) axis[k] = -Math.PI + (2 * Math.PI * k) / (n - 1);
@@ -146,7 +146,8 @@ export function frequencyMap(scheme: CheckedScheme, opts: FrequencyMapOptions = 
       if (rel[k] > mx) mx = rel[k];
       if (rel[k] < mn) mn = rel[k];
     }
-    isotropy = { radius, angles, relError: rel, max: mx, min: mn, spread: mx - mn };
+    // A field whose own block has no principal part (it only couples to others, like u_t = v) has no symbol to compare.
+    isotropy = mx >= mn ? { radius, angles, relError: rel, max: mx, min: mn, spread: mx - mn } : null;
     const steps = 64;
     const theta = new Float64Array(steps);
     const relErr = new Float64Array(steps);
@@ -154,7 +155,7 @@ export function frequencyMap(scheme: CheckedScheme, opts: FrequencyMapOptions = 
       theta[k] = (Math.PI * (k + 1)) / steps;
       relErr[k] = relAt(dims === 2 ? [theta[k], 0] : [theta[k]]);
     }
-    accuracy = { theta, relError: relErr };
+    accuracy = isotropy ? { theta, relError: relErr } : null;
   }
   return {
     dims, fields: w.fields, field, linear: w.linear, at: w.linear ? null : { x: w.x, y: w.y }, dt, spacing: w.spacing,

@@ -1,5 +1,6 @@
 // `fluxel check FILE [--json]`: diagnostics (file:line:col severity code message) and, when the analysis
-// is available, the stability verdict. Exit 1 when there are errors, 0 otherwise.
+// is available, the stability verdict and what the scheme approximates (the modified equation; JSON key
+// "approximates", null while the file has errors). Exit 1 when there are errors, 0 otherwise.
 
 import { readFileSync } from 'node:fs';
 import { parseAndCheck } from '../notation';
@@ -44,10 +45,12 @@ export function checkMain(argv: string[]): Promise<number> {
         worst: null,
         reason: 'The scheme has errors, so no stability analysis was run.',
       };
+      out.approximates = stability?.approximates ?? null;
       process.stdout.write(JSON.stringify(out, null, 2) + '\n');
     } else {
       for (const d of diagnostics) process.stdout.write(formatDiagnostic(file, d) + '\n');
       if (stability) process.stdout.write(stability.summary + '\n');
+      if (stability?.approximatesText) process.stdout.write(stability.approximatesText + '\n');
       const warnings = diagnostics.filter((d) => d.severity === 'warning').length;
       process.stdout.write(`${file}: ${errors} error${errors === 1 ? '' : 's'}, ${warnings} warning${warnings === 1 ? '' : 's'}\n`);
     }

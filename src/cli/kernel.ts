@@ -1,11 +1,14 @@
 // `fluxel kernel FILE --at X,Y [...]`: the weights pixel (X, Y) is updated with at step N (the engine advances
 // the full-resolution state N steps, then src/analysis/kernel.ts differentiates one update), printed as a grid by
 // offset with their sum and centre; for linear schemes also the N-step impulse response against √(2t).
+// `--influence N`: the influence map of that pixel N steps later (src/analysis/influence.ts, an adjoint sweep
+// along the recorded trajectory): how much each pixel of the state at step S changes the pixel's value at S + N.
 // Node-only front end over src/engine, src/analysis, src/images and src/notation; must not import vscode.
 
 import { promises as fs } from 'node:fs';
 import { impulseResponse, kernelAt, type ImpulseResponse, type KernelWeights } from '../analysis/kernel';
-import { createRun, EngineError, type RunImage } from '../engine';
+import { influenceMap, type InfluenceMap } from '../analysis/influence';
+import { createRun, EngineError, recordTrajectory, type RunImage } from '../engine';
 import { readImageFile } from '../images/files';
 import { makeScene } from '../images/scenes';
 import { ImageError } from '../images/types';
@@ -16,11 +19,13 @@ import { formatDiagnostic } from './check';
 
 const USAGE = [
   'usage: fluxel kernel FILE --at X,Y [--input PATH [--range LO:HI] | --scene NAME [--noise SIGMA] [--seed N]] [--size WxH]',
-  '                     [--step N] [--field NAME] [--linearised] [--json]',
+  '                     [--step N] [--field NAME] [--linearised] [--influence N] [--json]',
   '  The weights of FIELD\' at pixel (X, Y) after N steps (default 0), with diffusivities frozen at that state',
   '  (--linearised: differentiated too). Without --input or --scene, image fields use the survey scene.',
   '  In 1d give --at X; an image contributes its middle row. The state is stepped in Float64.',
   '  Linear schemes also get their impulse response after N steps (the declared `steps` when N is 0).',
+  '  --influence N: which pixels of the state at step S (--step) influence FIELD at (X, Y) at step S + N, and how',
+  '  much: the pixel\'s row of the product of the N frozen-weight matrices (--linearised: exact derivatives).',
 ].join('\n');
 
 const OPTIONS = {
@@ -35,6 +40,7 @@ const OPTIONS = {
   field: { type: 'string' },
   linearised: { type: 'boolean' },
   linearized: { type: 'boolean' },
+  influence: { type: 'string' },
   json: { type: 'boolean' },
   help: { type: 'boolean', short: 'h' },
 } as const;
@@ -59,6 +65,38 @@ export interface KernelReport {
   readonly linearised: boolean;
   readonly weights: KernelWeights;
   readonly impulse: ImpulseResponse | null;
+  readonly influence?: InfluenceMap | null;
+}
+
+/** The box of non-zero influence (clipped to 15×15 around the pixel for text). */
+function influenceWindow(m: InfluenceMap, clip: number | null): { x0: number; y0: number; x1: number; y1: number } | null {
+  if (!m.box) return null;
+  let { x0, y0, x1, y1 } = m.box;
+  if (clip !== null) {
+    x0 = Math.max(x0, m.x - clip); x1 = Math.min(x1, m.x + clip);
+    y0 = Math.max(y0, m.y - clip); y1 = Math.min(y1, m.y + clip);
+  }
+  return { x0, y0, x1, y1 };
+}
+
+function influenceText(m: InfluenceMap): string[] {
+  const lines = [
+    `influence on ${m.field} at (${m.x}, ${m.y}), ${m.steps} step${m.steps === 1 ? '' : 's'} after the state shown ` +
+      `(${m.mode === 'full' ? 'exact derivatives' : 'frozen weights'}): sum ${fmt(m.sum)}, largest |weight| ${fmt(m.maxAbs)}` +
+      (m.box ? `, non-zero over x ${m.box.x0}..${m.box.x1}, y ${m.box.y0}..${m.box.y1}` : ''),
+  ];
+  const w = influenceWindow(m, 7);
+  if (!w) return lines;
+  for (const [name, map] of Object.entries(m.maps)) {
+    if (!map.some((v) => v !== 0)) continue;
+    lines.push(`  ${name} (rows y ${w.y0}..${w.y1}, columns x ${w.x0}..${w.x1}${m.box && (w.x0 !== m.box.x0 || w.x1 !== m.box.x1 || w.y0 !== m.box.y0 || w.y1 !== m.box.y1) ? '; clipped to 7 pixels around the pick, --json has all' : ''}):`);
+    for (let y = w.y0; y <= w.y1; y++) {
+      const row: string[] = [];
+      for (let x = w.x0; x <= w.x1; x++) row.push(fmt(map[y * m.width + x]).padStart(11));
+      lines.push(`  ${row.join(' ')}`);
+    }
+  }
+  return lines;
 }
 
 function minimum(a: ArrayLike<number>): number {
@@ -128,6 +166,7 @@ function textReport(rep: KernelReport, scheme: CheckedScheme): string {
       lines.push(`  the response has negative values (minimum ${fmt(least)}): it is not a smoothing kernel, so σ is only its second moment`);
     }
   }
+  if (rep.influence) lines.push(...influenceText(rep.influence));
   return lines.join('\n');
 }
 
@@ -158,7 +197,21 @@ function jsonReport(rep: KernelReport, scheme: CheckedScheme): Record<string, un
         heatSigma: ir.heatSigma, truncated: ir.truncated,
       },
     } : {}),
+    ...(rep.influence ? { influence: influenceJson(rep.influence) } : {}),
   };
+}
+
+function influenceJson(m: InfluenceMap): Record<string, unknown> {
+  const w = influenceWindow(m, null);
+  const maps: Record<string, number[][]> = {};
+  if (w) {
+    for (const [name, map] of Object.entries(m.maps)) {
+      const rows: number[][] = [];
+      for (let y = w.y0; y <= w.y1; y++) rows.push(Array.from(map.subarray(y * m.width + w.x0, y * m.width + w.x1 + 1)));
+      maps[name] = rows;
+    }
+  }
+  return { steps: m.steps, mode: m.mode, field: m.field, at: { x: m.x, y: m.y }, sum: m.sum, maxAbs: m.maxAbs, box: m.box, evaluations: m.evaluations, maps };
 }
 
 export function kernelMain(argv: string[]): Promise<number> {
@@ -177,6 +230,7 @@ export function kernelMain(argv: string[]): Promise<number> {
     const atMatch = /^\s*(-?\d+)\s*(?:,\s*(-?\d+)\s*)?$/.exec(o.at);
     if (!atMatch) throw new UsageError(`--at takes X,Y (whole numbers, e.g. 12,40), got '${o.at}'.\n${USAGE}`);
     const step = o.step === undefined ? 0 : whole(o.step, '--step', 0);
+    const influenceSteps = o.influence === undefined ? null : whole(o.influence, '--influence', 1);
     const linearised = (o.linearised ?? false) || (o.linearized ?? false);
     const size = sizeArg(o.size, USAGE);
     const range = rangeArg(o.range, USAGE);
@@ -267,7 +321,24 @@ export function kernelMain(argv: string[]): Promise<number> {
     // The impulse response needs a number of steps: --step when given, else the scheme's declared `steps`.
     const irSteps = step > 0 ? step : Math.max(1, scheme.steps);
     const impulse = impulseResponse(scheme, irSteps, { field });
-    const rep: KernelReport = { file, input: inputName, field, at: { x, y }, step, t: run.t, linearised, weights, impulse };
+    let influence: InfluenceMap | null = null;
+    if (influenceSteps !== null) {
+      try {
+        const traj = recordTrajectory(scheme, influenceSteps, { image, width: image ? undefined : size?.width, height: image ? undefined : scheme.dims === 1 ? 1 : size?.height }, undefined, step);
+        if (traj.states.length < influenceSteps) {
+          process.stderr.write(`fluxel kernel: ${file}: the run stopped after ${step + traj.states.length} steps, before step ${step + influenceSteps}.\n`);
+          return 1;
+        }
+        influence = influenceMap(scheme, traj.states, { x, y, field }, { mode: linearised ? 'full' : 'frozen' });
+      } catch (err) {
+        if (err instanceof EngineError) {
+          process.stderr.write(`fluxel kernel: ${file}: ${err.message}\n`);
+          return 1;
+        }
+        throw err;
+      }
+    }
+    const rep: KernelReport = { file, input: inputName, field, at: { x, y }, step, t: run.t, linearised, weights, impulse, influence };
     if (o.json) process.stdout.write(JSON.stringify(jsonReport(rep, scheme), null, 2) + '\n');
     else process.stdout.write(textReport(rep, scheme) + '\n');
     return 0;

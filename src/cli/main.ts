@@ -15,6 +15,7 @@ const COMMANDS: Record<string, { summary: string; load: () => Promise<Command> }
   compare: { summary: 'image quality of IMG against REF: MSE, PSNR, SSIM', load: async () => (await import('./compare')).compareMain },
   sweep: { summary: 'run a grid of parameter settings, measure every step, write CSV, JSON and a heat map', load: async () => (await import('./sweep')).sweepMain },
   fit: { summary: 'find the best parameter values and step inside the declared ranges', load: async () => (await import('./fit')).fitMain },
+  spectrum: { summary: 'the frequency map: |G(θ)| over the frequencies, the stable edge, the isotropy error (PNG, JSON)', load: async () => (await import('./spectrum')).spectrumMain },
 };
 
 export function registerCommand(name: string, summary: string, load: () => Promise<Command>): void {

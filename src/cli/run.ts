@@ -1,5 +1,8 @@
 // `fluxel run FILE ...`: runs a scheme in-process on an image or a generated scene and writes the result,
 // optional frames and a --stats JSON document (contracts.md §4). Exit 0 ok, 1 input errors, 2 usage.
+// `--baseline OTHER.fluxel` (A/B): runs OTHER on the same input, steps and precision, writes its result beside the
+// output as NAME.baseline.EXT and the signed difference (this − baseline) as NAME.diff.pfm, and reports the deltas
+// (PSNR, SSIM against the clean scene, total variation, difference RMS/max) on stdout and under `ab` in --stats.
 // Node-only front end over src/engine, src/images and src/notation; must not import vscode.
 
 import { createHash } from 'node:crypto';
@@ -16,6 +19,21 @@ import { BACKEND_CHOICES, backendByName, type BackendChoice } from '../engine/wa
 import { guard, parseCommandLine, UsageError, numberArg, rangeArg, sizeArg, wholeArg } from './args';
 import { formatDiagnostic } from './check';
 import { bestStepTracker, pictureField } from '../tune/evaluate';
+import { psnr as psnrOf, ssim as ssimOf, totalVariation } from '../analysis/metrics';
+import type { CheckedScheme } from '../notation/scheme';
+
+/** NAME.baseline.EXT and NAME.diff.pfm beside the output. */
+export function abPaths(output: string): { baseline: string; diff: string } {
+  const ext = path.extname(output);
+  const stem = output.slice(0, output.length - ext.length);
+  return { baseline: `${stem}.baseline${ext}`, diff: `${stem}.diff.pfm` };
+}
+
+function outputFieldIndex(scheme: CheckedScheme, name?: string): number {
+  if (name !== undefined) return scheme.fields.findIndex(f => f.name === name);
+  const imageField = scheme.fields.findIndex(f => f.init.kind === 'image');
+  return imageField >= 0 ? imageField : Math.max(0, scheme.fields.findIndex(f => f.updated));
+}
 
 const USAGE = [
   'usage: fluxel run FILE [--input PATH [--range LO:HI] | --scene NAME [--noise SIGMA] [--seed N]] [--size WxH]',
@@ -23,6 +41,8 @@ const USAGE = [
   '                  --output PATH [--frames DIR --every K] [--stats PATH [--metric psnr|ssim]]',
   '  --set also accepts dt=VALUE; without --input or --scene, image fields use the survey scene.',
   '  With a scene, --stats gets `best`: the step (any step, not only recorded frames) maximising --metric (default psnr).',
+  '  --baseline OTHER.fluxel: also run OTHER on the same input; writes NAME.baseline.EXT and NAME.diff.pfm beside',
+  '  --output and the deltas (this − baseline) of PSNR, SSIM (with a scene), TV and the difference.',
 ].join('\n');
 
 const OPTIONS = {
@@ -43,6 +63,7 @@ const OPTIONS = {
   every: { type: 'string' },
   stats: { type: 'string' },
   metric: { type: 'string' },
+  baseline: { type: 'string' },
   help: { type: 'boolean', short: 'h' },
 } as const;
 
@@ -169,6 +190,53 @@ export function runMain(argv: string[]): Promise<number> {
       }
       throw err;
     }
+    // A/B: the baseline scheme on the same input, steps, precision and backend (its own params and dt).
+    let ab: { data: ArrayLike<number>; stepsDone: number; stopReason: string | undefined } | null = null;
+    if (o.baseline !== undefined) {
+      if (o.baseline === o.output || abPaths(o.output).baseline === o.output) throw new UsageError('--baseline names a scheme file, not the output.');
+      let btext: string;
+      try {
+        btext = await fs.readFile(o.baseline, 'utf8');
+      } catch (err) {
+        process.stderr.write(`fluxel run: cannot read the baseline ${o.baseline}: ${(err as NodeJS.ErrnoException).code ?? String(err)}\n`);
+        return 1;
+      }
+      const bchecked = parseAndCheck(btext);
+      const berrors = bchecked.diagnostics.filter(d => d.severity === 'error');
+      if (!bchecked.scheme || berrors.length) {
+        for (const d of berrors) process.stderr.write(formatDiagnostic(o.baseline, d) + '\n');
+        return 1;
+      }
+      const bs = bchecked.scheme;
+      if (bs.dims !== scheme.dims) {
+        process.stderr.write(`fluxel run: the baseline ${o.baseline} is a ${bs.dims}d scheme and ${file} a ${scheme.dims}d one; they cannot be compared.\n`);
+        return 1;
+      }
+      if (o.field !== undefined && !bs.fields.some(f => f.name === o.field)) throw new UsageError(`--field ${o.field}: the baseline has no field '${o.field}'.`);
+      try {
+        const brun = createRun(bs, {
+          image, steps, width: size?.width, height: size?.height,
+          dtype: o.float64 ? 'float64' : 'float32', backend: backendByName(backendChoice), measures: false,
+        });
+        const br = brun.runSync();
+        if (br.status === 'blow-up') {
+          process.stderr.write(`fluxel run: the baseline ${o.baseline} blew up at step ${br.stepsDone}; no output written.\n`);
+          return 1;
+        }
+        if (brun.geometry.width !== run.geometry.width || brun.geometry.height !== run.geometry.height) {
+          process.stderr.write(`fluxel run: the baseline ran on ${brun.geometry.width}×${brun.geometry.height} pixels and ${file} on ${run.geometry.width}×${run.geometry.height}; give both the same input.\n`);
+          return 1;
+        }
+        ab = { data: brun.fieldData(outputFieldIndex(bs, o.field)), stepsDone: br.stepsDone, stopReason: br.stopReason };
+      } catch (err) {
+        if (err instanceof EngineError) {
+          process.stderr.write(`fluxel run: ${o.baseline}: ${err.message}\n`);
+          return 1;
+        }
+        throw err;
+      }
+    }
+
     // The output field: --field, else the field holding the picture, else the first updated field.
     const imageField = scheme.fields.findIndex(f => f.init.kind === 'image');
     const outIndex = o.field !== undefined
@@ -228,6 +296,8 @@ export function runMain(argv: string[]): Promise<number> {
         dtype: result.dtype,
         stepSeconds: result.stepSeconds,
         frames: result.frames,
+        stopReason: result.stopReason,
+        ...(result.stopChange !== undefined ? { stopChange: result.stopChange } : {}),
         warnings: result.warnings.map(w => ({ ...w, range: jsonRange(w.range) })),
         ...(tracker?.best() ? { best: tracker.best() } : result.best ? { best: result.best } : {}),
         sourceHash: createHash('sha256').update(text).digest('hex'),
@@ -241,6 +311,45 @@ export function runMain(argv: string[]): Promise<number> {
       return 1;
     }
     await writeImageFile(o.output, grey(run.fieldData(outIndex)));
+    if (ab) {
+      const paths = abPaths(o.output);
+      await writeImageFile(paths.baseline, grey(ab.data));
+      const mine = run.fieldData(outIndex);
+      const diff = new Float32Array(mine.length);
+      for (let k = 0; k < diff.length; k++) diff[k] = mine[k] - ab.data[k];
+      await writeImageFile(paths.diff, { width: run.geometry.width, height: run.geometry.height, data: diff });
+      const w = run.geometry.width, h = run.geometry.height;
+      const img = (d: ArrayLike<number>) => ({ width: w, height: h, data: Float64Array.from(d) });
+      const measures = (d: ArrayLike<number>) => {
+        const m: Record<string, number> = { tv: totalVariation(img(d)) };
+        if (reference) {
+          m.psnr = psnrOf(img(reference.data), img(d));
+          if (w >= 11 && h >= 11) m.ssim = ssimOf(img(reference.data), img(d));
+        }
+        return m;
+      };
+      const a = measures(mine), b = measures(ab.data);
+      let s2 = 0, mx = 0;
+      for (let k = 0; k < diff.length; k++) { s2 += diff[k] * diff[k]; mx = Math.max(mx, Math.abs(diff[k])); }
+      const deltas: Record<string, number> = {};
+      for (const k of Object.keys(a)) deltas[k] = a[k] - b[k];
+      const report = {
+        baseline: o.baseline, baselineOutput: paths.baseline, differenceOutput: paths.diff,
+        current: a, baselineMeasures: b, deltas, difference: { rms: Math.sqrt(s2 / diff.length), max: mx },
+        baselineStepsDone: ab.stepsDone, baselineStopReason: ab.stopReason,
+      };
+      const f = (v: number) => (Number.isFinite(v) ? Number(v.toPrecision(5)).toString() : String(v));
+      const line = (k: string, label: string) => (k in a ? `  ${label.padEnd(4)} ${f(a[k]).padStart(10)}  baseline ${f(b[k]).padStart(10)}  Δ ${f(deltas[k])}\n` : '');
+      process.stdout.write(`A/B: ${file} against baseline ${o.baseline}${reference ? ' (PSNR and SSIM against the clean scene)' : ''}\n` +
+        line('psnr', 'PSNR') + line('ssim', 'SSIM') + line('tv', 'TV') +
+        `  difference RMS ${f(report.difference.rms)}, max ${f(mx)}; wrote ${paths.baseline} and ${paths.diff}\n`);
+      if (o.stats) {
+        const statsText = await fs.readFile(o.stats, 'utf8');
+        const stats = JSON.parse(statsText) as Record<string, unknown>;
+        stats.ab = report;
+        await writeAtomically(o.stats, JSON.stringify(stats, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? (Number.isNaN(v) ? 'nan' : v > 0 ? 'inf' : '-inf') : v), 2) + '\n');
+      }
+    }
     return 0;
   });
 }

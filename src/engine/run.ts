@@ -9,7 +9,7 @@ import ndarray from 'ndarray';
 import type { NdArray } from 'ndarray';
 import type { StabilityReport } from '../analysis/stability';
 import { dirichletEnergy, psnr as psnrOf, ssim as ssimOf, totalVariation } from '../analysis/metrics';
-import type { CheckedScheme } from '../notation/scheme';
+import { STOP_CHANGE_CAP, type CheckedScheme } from '../notation/scheme';
 import { fillGhosts, makeGeometry, planGhosts, readInterior, writeInterior, type GhostPlan } from './boundary';
 import { blurInto, gaussianTaps } from './blur';
 import { defaultBackend } from './wasm/select';
@@ -71,7 +71,7 @@ export interface RunOptions {
 }
 
 /** The step cap of `until change < tol` when nothing else sets one; reaching it is a `no-convergence` warning. */
-export const DEFAULT_STEP_CAP = 10000;
+export const DEFAULT_STEP_CAP = STOP_CHANGE_CAP;
 
 export interface Frame {
   readonly stats: FrameStats;

@@ -20,9 +20,12 @@ export interface Trajectory {
   readonly height: number;
 }
 
-/** Runs `steps` steps (float64 unless asked otherwise) and keeps the state before each one. */
-export function recordTrajectory(scheme: CheckedScheme, steps: number, opts: RunOptions = {}, budget = TRAJECTORY_BUDGET): Trajectory {
-  const run = createRun(scheme, { dtype: 'float64', ...opts, steps, every: 0, measures: false, stopChange: null });
+/**
+ * Runs `startAt` steps without keeping anything, then `steps` more (float64 unless asked otherwise), keeping the
+ * state before each of those (states[k] is the state at step startAt + k).
+ */
+export function recordTrajectory(scheme: CheckedScheme, steps: number, opts: RunOptions = {}, budget = TRAJECTORY_BUDGET, startAt = 0): Trajectory {
+  const run = createRun(scheme, { dtype: 'float64', ...opts, steps: startAt + steps, every: 0, measures: false, stopChange: null });
   const g = run.geometry;
   const values = steps * scheme.fields.length * g.width * g.height;
   if (values > budget) {
@@ -32,6 +35,10 @@ export function recordTrajectory(scheme: CheckedScheme, steps: number, opts: Run
     width: g.width, height: g.height, t: run.t,
     fields: scheme.fields.map((_, k) => Float64Array.from(run.fieldData(k))),
   });
+  for (let k = 0; k < startAt; k++) {
+    run.step();
+    if (run.status === 'blow-up') throw new EngineError(`the run blew up at step ${run.stepIndex}, before step ${startAt}`);
+  }
   const states: FieldState[] = [];
   for (let k = 0; k < steps; k++) {
     states.push(snap());

@@ -298,6 +298,11 @@ class Lowerer {
 
 /** Lowers a checked scheme. Throws ExportError (naming the construct and its line) for what cannot export. */
 export function lowerScheme(scheme: CheckedScheme): ExportIR {
+  if (scheme.untilChange != null) {
+    // The exported step functions take a step count; the change rule needs a reduction over the whole image
+    // between steps, which the generated code does not carry. Refuse rather than export a different stop.
+    throw new ExportError(`the scheme stops by \`until change < ${scheme.untilChange}\`, which the exported code cannot express: replace it by \`steps N\` (e.g. the step count a run with the change rule reports) and export again`);
+  }
   const g = new Graph();
   const low = new Lowerer(scheme, g);
   try {

@@ -3,6 +3,7 @@
 // Must not import vscode: the worker loads the extension bundle with an empty stand-in for it.
 
 import { parentPort } from 'node:worker_threads';
+import { analyseWhy } from '../analysis/modifiedEquation';
 import { analyseStability, stabilityDiagnostics, type StabilityReport } from '../analysis/stability';
 import type { Diagnostic } from '../notation/diagnostics';
 import { parseAndCheck } from '../notation/index';
@@ -19,6 +20,8 @@ export interface AnalysisResult {
   /** Wall-clock milliseconds the analysis took, for the log. */
   readonly ms: number;
   readonly error?: string;
+  /** What the scheme approximates (the modified-equation summary), for hovers and the panel; null with errors. */
+  readonly approximates?: string | null;
 }
 
 export interface AnalysisResponse extends AnalysisResult {
@@ -32,7 +35,11 @@ export function analyseText(text: string): AnalysisResult {
     const checked = parseAndCheck(text);
     if (!checked.scheme) return { report: null, diagnostics: [], ms: performance.now() - t0 };
     const report = analyseStability(checked.scheme);
-    return { report, diagnostics: stabilityDiagnostics(checked.scheme, report), ms: performance.now() - t0 };
+    const why = analyseWhy(checked.scheme);
+    return {
+      report, diagnostics: [...stabilityDiagnostics(checked.scheme, report), ...why.diagnostics], ms: performance.now() - t0,
+      approximates: why.equation?.summary ?? null,
+    };
   } catch (err) {
     return { report: null, diagnostics: [], ms: performance.now() - t0, error: err instanceof Error ? err.message : String(err) };
   }

@@ -145,6 +145,8 @@ export interface StepDecl { readonly kind: 'step'; readonly name: Ident; readonl
 export interface StepsDecl { readonly kind: 'steps'; readonly count: NumberLit; readonly range: SourceRange }
 /** `until t = 12`. */
 export interface UntilDecl { readonly kind: 'until'; readonly variable: Ident; readonly time: NumberLit; readonly range: SourceRange }
+/** `until change < 1e-4`: stop once the RMS change of a step is below the tolerance. */
+export interface UntilChangeDecl { readonly kind: 'untilChange'; readonly variable: Ident; readonly tolerance: NumberLit; readonly range: SourceRange }
 
 export type FieldInit =
   | { readonly kind: 'image'; readonly range: SourceRange }
@@ -168,7 +170,7 @@ export interface NeighboursDecl { readonly kind: 'neighbours'; readonly name: Id
 export interface UpdateDecl { readonly kind: 'update'; readonly field: Ident; readonly expr: Expr; readonly range: SourceRange }
 
 export type Decl =
-  | GridDecl | SpacingDecl | BoundaryDecl | ParamDecl | StepDecl | StepsDecl | UntilDecl
+  | GridDecl | SpacingDecl | BoundaryDecl | ParamDecl | StepDecl | StepsDecl | UntilDecl | UntilChangeDecl
   | FieldDecl | FunctionDecl | LetDecl | NeighboursDecl | UpdateDecl;
 
 /** A whole file. Declarations appear in source order; broken ones are absent or hold `error` expressions. */

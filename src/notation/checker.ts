@@ -7,7 +7,7 @@ import { walkExpr } from './ast';
 import { applyBuiltin, BUILTIN_FUNCTIONS, BUILTIN_SETS, MAX_OFFSET } from './builtins';
 import type { Diagnostic, RelatedInfo, CheckerCode } from './diagnostics';
 import {
-  CONSTANT_NAMES, type Boundary, type CheckedScheme, type FieldInfo, type FunctionInfo, type LetInfo,
+  CONSTANT_NAMES, STOP_CHANGE_CAP, type Boundary, type CheckedScheme, type FieldInfo, type FunctionInfo, type LetInfo,
   type Offset, type ParamInfo, type SymbolKind, type UpdateInfo,
 } from './scheme';
 
@@ -142,6 +142,7 @@ class Checker {
       stepRange: settings.stepRange!,
       steps: settings.steps,
       untilTime: settings.untilTime,
+      untilChange: settings.untilChange,
       functions,
       lets,
       neighbourSets,
@@ -180,6 +181,20 @@ class Checker {
     let steps: number | null = null;
     let untilTime: number | null = null;
     let untilDecl: A.UntilDecl | null = null;
+    let untilChange: number | null = null;
+    // The first stopping rule seen; a different second one is a conflict, the same one twice a duplicate.
+    let stopRule: A.Decl | null = null;
+    const stopOnce = (d: A.Decl): boolean => {
+      if (stopRule && stopRule.kind !== d.kind) {
+        const word = (x: A.Decl) => (x.kind === 'steps' ? '`steps N`' : x.kind === 'until' ? '`until t = T`' : '`until change < tol`');
+        this.error('stop-rule-conflict', d.range, `The scheme already stops by ${word(stopRule)}; ${word(d)} is a second, conflicting stopping rule: keep one of them.`, {
+          related: [{ range: stopRule.range, message: 'the first stopping rule' }],
+        });
+        return false;
+      }
+      stopRule ??= d;
+      return once('steps', d, 'The number of steps (`steps` or `until`)');
+    };
     let defaultBoundary: Boundary = { kind: 'reflect' };
     const perField = new Map<string, { b: Boundary; decl: A.BoundaryDecl }>();
     let gridSeen = false;
@@ -232,13 +247,19 @@ class Checker {
           break;
         }
         case 'steps':
-          if (!once('steps', d, 'The number of steps (`steps` or `until`)')) break;
+          if (!stopOnce(d)) break;
           if (!Number.isInteger(d.count.value) || d.count.value < 0) {
             this.error('steps-invalid', d.count.range, `The number of steps must be a whole number ≥ 0, not ${d.count.value}.`);
           } else steps = d.count.value;
           break;
+        case 'untilChange':
+          if (!stopOnce(d)) break;
+          if (d.variable.name !== 'change') this.error('until-change-invalid', d.variable.range, `Write \`until change < tol\` (the RMS change of one step) or \`until t = T\`; \`${d.variable.name}\` cannot be compared with \`<\`.`);
+          else if (!(d.tolerance.value > 0) || !Number.isFinite(d.tolerance.value)) this.error('until-change-invalid', d.tolerance.range, 'The change tolerance must be a finite number > 0.');
+          else { untilChange = d.tolerance.value; steps = STOP_CHANGE_CAP; }
+          break;
         case 'until':
-          if (!once('steps', d, 'The number of steps (`steps` or `until`)')) break;
+          if (!stopOnce(d)) break;
           if (d.variable.name !== 't') this.error('until-invalid', d.variable.range, `Write \`until t = T\`: the end condition is on the time \`t\`, not \`${d.variable.name}\`.`);
           else if (!(d.time.value >= 0) || !Number.isFinite(d.time.value)) this.error('until-invalid', d.time.range, 'The end time must be a finite number ≥ 0.');
           else untilDecl = d;
@@ -251,7 +272,7 @@ class Checker {
       this.error('missing-grid', this.firstLine(), 'The scheme has no `grid` declaration: add `grid 2d` (or `grid 1d`) at the top.');
     }
     if (!stepRange && complete) this.error('missing-step', this.firstLine(), 'The scheme has no time step: add e.g. `step dt = 0.2`.');
-    if (!seen.has('steps') && complete) this.error('missing-steps', this.firstLine(), 'The scheme does not say how long to run: add `steps N` or `until t = T`.');
+    if (!seen.has('steps') && complete) this.error('missing-steps', this.firstLine(), 'The scheme does not say how long to run: add `steps N`, `until t = T` or `until change < tol`.');
     if (untilDecl && dt !== null) {
       const ratio = untilDecl.time.value / dt;
       steps = Math.round(ratio);
@@ -261,7 +282,7 @@ class Checker {
           `t = ${untilDecl.time.value} is not a whole number of steps of dt = ${dt}; the run takes ${steps} steps and ends at t = ${Number((steps * dt).toPrecision(12))}.`);
       }
     }
-    return { spacing, dt, dtBounds, stepRange, steps, untilTime, boundaries: { defaultBoundary, perField } };
+    return { spacing, dt, dtBounds, stepRange, steps, untilTime, untilChange, boundaries: { defaultBoundary, perField } };
   }
 
   // ---------------------------------------------------------------- names

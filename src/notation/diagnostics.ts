@@ -76,6 +76,8 @@ export const CODES = {
   'unused-function': 'a function or diffusivity never called (warning)',
   'unused-let': 'a let field never read (warning)',
   'unused-set': 'a neighbour set never used (warning)',
+  'stop-rule-conflict': 'two different stopping rules (`steps N`, `until t = T`, `until change < tol`) in one scheme',
+  'until-change-invalid': '`until … < tol` on something other than `change`, or a tolerance that is not a positive number',
 } as const;
 
 export type CheckerCode = keyof typeof CODES;

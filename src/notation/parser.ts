@@ -177,11 +177,17 @@ class FluxelParser extends EmbeddedActionsParser {
   untilDecl = this.RULE('untilDecl', (): A.Decl | null => {
     const kw = this.CONSUME(T.Until);
     const variable = this.CONSUME(T.Identifier);
-    this.CONSUME(T.Equals);
-    const time = this.SUBRULE(this.signedNumber);
+    // `until t = T` or `until change < tol`.
+    const less = this.OR([
+      { ALT: () => { this.CONSUME(T.Equals); return false; } },
+      { ALT: () => { this.CONSUME(T.Less); return true; } },
+    ]);
+    const value = this.SUBRULE(this.signedNumber);
     return this.ACTION(() => {
       const v = this.ident(variable);
-      return v && time ? { kind: 'until', variable: v, time, range: this.span(this.tr(kw), time.range) } : null;
+      if (!v || !value) return null;
+      const range = this.span(this.tr(kw), value.range);
+      return less ? { kind: 'untilChange', variable: v, tolerance: value, range } : { kind: 'until', variable: v, time: value, range };
     });
   }, { recoveryValueFunc: () => null });
 

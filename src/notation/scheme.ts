@@ -80,5 +80,8 @@ export interface CheckedScheme {
 
 export type SymbolKind = 'field' | 'let' | 'param' | 'constant' | 'function' | 'diffusivity' | 'set';
 
+/** The step cap of `until change < tol` (the scheme's `steps`); reaching it is a `no-convergence` run warning. */
+export const STOP_CHANGE_CAP = 10000;
+
 /** Names every scheme has. `dt` is the declared step, `t` the time, `x`/`y` pixel coordinates, `h` the spacing. */
 export const CONSTANT_NAMES = ['pi', 'h', 'dt', 't', 'x', 'y'] as const;

@@ -25,6 +25,10 @@ export interface HeatmapSpec {
   readonly mark?: { readonly col: number; readonly row: number };
   /** One line of small print under the x label. */
   readonly note?: string;
+  /** Cells drawn in ink instead of their colour where this is non-zero (e.g. the |G| = 1 edge of a frequency map). */
+  readonly outline?: ArrayLike<number>;
+  /** The colour bar's range instead of the cells' own minimum and maximum. */
+  readonly range?: { readonly lo: number; readonly hi: number };
 }
 
 const INK: Rgb = [30, 30, 30];
@@ -77,7 +81,7 @@ export function renderHeatmap(spec: HeatmapSpec): Canvas {
   const left = 150, top = 64, right = 190, bottom = 110;
   const width = left + plotW + right, height = top + plotH + bottom;
   const c = createCanvas(width, height);
-  const [lo, hi] = finiteRange(spec.cells);
+  const [lo, hi] = spec.range ? [spec.range.lo, spec.range.hi] : finiteRange(spec.cells);
   const tOf = (v: number) => (Number.isNaN(v) ? Number.NaN : hi > lo ? (v - lo) / (hi - lo) : 0.5);
 
   // Cells: each plot pixel takes the cell under it, so any grid size fills the same area.
@@ -86,7 +90,7 @@ export function renderHeatmap(spec: HeatmapSpec): Canvas {
     for (let px = 0; px < plotW; px++) {
       const col = Math.floor((px * cols) / plotW);
       const v = spec.cells[row * cols + col];
-      setPixel(c, left + px, top + py, colourAt(tOf(v)) ?? NO_VALUE);
+      setPixel(c, left + px, top + py, spec.outline?.[row * cols + col] ? INK : colourAt(tOf(v)) ?? NO_VALUE);
     }
   }
   // Frame.

@@ -48,7 +48,7 @@ describe('fluxel run (built bundle)', () => {
     // Not a terminal (a pipe): no progress bar, nothing on stderr.
     expect(r.stderr).toBe('');
     const s = JSON.parse(readFileSync(join(dir, 's.json'), 'utf8')) as Stats;
-    expect(Object.keys(s).sort()).toEqual(['backend', 'best', 'dt', 'dtype', 'frames', 'input', 'params', 'scheme', 'seed', 'sourceHash', 'stepSeconds', 'steps', 'warnings'].sort());
+    expect(Object.keys(s).sort()).toEqual(['backend', 'best', 'dt', 'dtype', 'frames', 'input', 'params', 'scheme', 'seed', 'sourceHash', 'stepSeconds', 'steps', 'stopReason', 'warnings'].sort());
     expect(s.seed, 'the default seed is recorded').toBe(1);
     expect(s.warnings).toEqual([]);
     expect(s.stepSeconds > 0).toBe(true);

@@ -12,7 +12,7 @@ status=0
 say() { printf '\n=== %s\n' "$*"; }
 
 # 1. System packages: Debian's Python with the reference libraries (called by path as /usr/bin/python3), and gcc.
-APT_PACKAGES="python3 python3-numpy python3-scipy python3-skimage python3-pil python3-dask python3-distributed gcc"
+APT_PACKAGES="python3 python3-numpy python3-scipy python3-skimage python3-pil python3-dask python3-distributed python3-sympy gcc"
 missing=""
 for p in $APT_PACKAGES; do dpkg -s "$p" >/dev/null 2>&1 || missing="$missing $p"; done
 if [ -n "$missing" ]; then

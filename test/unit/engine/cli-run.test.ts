@@ -37,12 +37,14 @@ describe('fluxel run', () => {
     expect([img.width, img.height]).toEqual([48, 40]);
     expect(readdirSync(frames).sort()).toEqual(['u-000000.pfm', 'u-000004.pfm', 'u-000008.pfm', 'u-000012.pfm']);
     const s = JSON.parse(readFileSync(stats, 'utf8'));
-    expect(Object.keys(s).sort()).toEqual(['backend', 'best', 'dt', 'dtype', 'frames', 'input', 'params', 'scheme', 'seed', 'sourceHash', 'stepSeconds', 'steps', 'warnings'].sort());
+    expect(Object.keys(s).sort()).toEqual(['backend', 'best', 'dt', 'dtype', 'frames', 'input', 'params', 'scheme', 'seed', 'sourceHash', 'stepSeconds', 'steps', 'stopReason', 'warnings'].sort());
     expect(s.params).toEqual({ K: 0.1 });
     expect([s.dt, s.steps, s.dtype, s.backend, s.input, s.seed]).toEqual([0.2, 12, 'float32', 'wasm (f32x4, 1 thread)', 'scene:cells', 3]);
     expect(s.frames.map((f: { step: number }) => f.step)).toEqual([0, 4, 8, 12]);
     expect(typeof s.frames[1].psnr, 'psnr against the clean scene').toBe('number');
-    expect(Object.keys(s.frames[0].fields.u).sort()).toEqual(['max', 'mean', 'min']);
+    // The contract's min, max, mean plus the per-step measures (drift, TV, energy; the change from step 1 on).
+    expect(Object.keys(s.frames[0].fields.u).sort()).toEqual(['drift', 'energy', 'max', 'mean', 'min', 'tv']);
+    expect(Object.keys(s.frames[1].fields.u).sort()).toEqual(['change', 'drift', 'energy', 'max', 'mean', 'min', 'tv']);
     // Denoising a noisy picture with edge-preserving diffusion should raise PSNR above the noisy input's.
     expect(s.best.step > 0, `best step ${s.best.step}`).toBe(true);
   });

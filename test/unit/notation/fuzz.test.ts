@@ -95,7 +95,7 @@ describe('fuzz: parse and check never throw', () => {
     }
     // Coverage report (printed, then required).
     const missingCodes = [...known].filter((c) => !codes.has(c));
-    const allKinds = ['grid', 'spacing', 'boundary', 'param', 'step', 'steps', 'until', 'field', 'function', 'let', 'neighbours', 'update']
+    const allKinds = ['grid', 'spacing', 'boundary', 'param', 'step', 'steps', 'until', 'untilChange', 'field', 'function', 'let', 'neighbours', 'update']
       .map((k) => `decl:${k}`)
       .concat(['number', 'name', 'access', 'unary', 'binary', 'if', 'reduce', 'call', 'error'].map((k) => `expr:${k}`));
     const missingKinds = allKinds.filter((k) => !kinds.has(k));

@@ -28,6 +28,7 @@ export function printDecl(d: A.Decl): string {
     case 'step': return `step ${d.name.name} ${d.value.value}${d.bounds ? ` [${d.bounds.lo.value},${d.bounds.hi.value}]` : ''}`;
     case 'steps': return `steps ${d.count.value}`;
     case 'until': return `until ${d.variable.name} ${d.time.value}`;
+    case 'untilChange': return `until ${d.variable.name} < ${d.tolerance.value}`;
     case 'field': return `field ${d.name.name} ${d.init ? (d.init.kind === 'image' ? 'image' : printExpr(d.init.expr)) : '<none>'}`;
     case 'function': return `${d.diffusivity ? 'diffusivity' : 'fn'} ${d.name.name}(${d.params.map((p) => p.name).join(',')}) ${printExpr(d.body)}`;
     case 'let': return `let ${d.name.name} ${printExpr(d.expr)}`;
