@@ -4,6 +4,9 @@
 
 import type { WireRange, WireVerdict } from '../../protocol/preview';
 
+/** The message of an influence request ended by a newer one (the session drops it silently). */
+export const SUPERSEDED = 'superseded by a newer request';
+
 export interface KnobSet {
   readonly values: Readonly<Record<string, number>>;
   readonly dt: number;

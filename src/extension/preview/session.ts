@@ -14,7 +14,7 @@ import type { SourceRange } from '../../notation/ast';
 import type { CheckedScheme } from '../../notation/scheme';
 import type { FromPreview, InputChoice, KnobSpec, ToPreview, WireMeasures, WirePinned, WireRange } from '../../protocol/preview';
 import type { AnalysisService } from './analysisClient';
-import type { KnobSet, SideMetrics } from './analysisProtocol';
+import { SUPERSEDED, type KnobSet, type SideMetrics } from './analysisProtocol';
 import { restorePinned, storePinned, type PinnedResult, type StoredPinned } from './baseline';
 import { downsample, frameStride, knobEdits, rowOf, shrinkFactor, type OffsetEdit } from './frames';
 
@@ -771,6 +771,7 @@ export class PreviewSession {
       if (this.run !== r) return;
       this.env.post({ type: 'influence', source: this.env.source, runId: r.runId, step: msg.step, x: msg.x, y: msg.y, ...m });
     } catch (err) {
+      if (err instanceof Error && err.message === SUPERSEDED) return;
       this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `The influence map of (${msg.x}, ${msg.y}) could not be computed: ${err instanceof Error ? err.message : String(err)}` });
     }
   }
