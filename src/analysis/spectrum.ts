@@ -176,3 +176,50 @@ export function frequencyMapJson(m: FrequencyMap): Record<string, unknown> {
     equation: m.equation,
   };
 }
+
+export interface DtAmplitudeMap {
+  /** θ of the columns (−π..π) and dt of the rows (row 0 the smallest dt). */
+  readonly axis: Float64Array;
+  readonly dts: Float64Array;
+  readonly width: number;
+  readonly height: number;
+  readonly amplitude: Float64Array;
+  readonly unstable: Uint8Array;
+  readonly edge: Uint8Array;
+  readonly colourRange: { readonly lo: number; readonly hi: number };
+}
+
+/**
+ * For 1d schemes: |G(θ)| over θ (columns) and dt (rows), so the |G| = 1 edge shows which dt each frequency
+ * tolerates; the weights are re-evaluated at every dt (frozen at the same state and pixel as frequencyMap).
+ */
+export function amplitudeOverDt(scheme: CheckedScheme, dts: readonly number[], opts: FrequencyMapOptions = {}): DtAmplitudeMap {
+  let n = Math.max(3, Math.floor(opts.samples ?? 201));
+  if (n % 2 === 0) n += 1;
+  const axis = new Float64Array(n);
+  for (let k = 0; k < n; k++) axis[k] = -Math.PI + (2 * Math.PI * k) / (n - 1);
+  const width = n, height = dts.length;
+  const amplitude = new Float64Array(width * height);
+  const unstable = new Uint8Array(width * height);
+  let lo = Infinity, hi = -Infinity;
+  dts.forEach((dt, r) => {
+    const w = frozenStencil(scheme, { ...opts, dt });
+    for (let c = 0; c < width; c++) {
+      const th = scheme.dims === 2 ? [axis[c], 0] : [axis[c]];
+      const a = w.n === 0 ? 1 : spectralRadius(symbol(w, th));
+      amplitude[r * width + c] = a;
+      if (a > 1 + MARGIN) unstable[r * width + c] = 1;
+      lo = Math.min(lo, a);
+      hi = Math.max(hi, a);
+    }
+  });
+  const edge = new Uint8Array(width * height);
+  for (let r = 0; r < height; r++) for (let c = 0; c < width; c++) {
+    const k = r * width + c;
+    for (const [x, y] of [[c - 1, r], [c + 1, r], [c, r - 1], [c, r + 1]]) {
+      if (x < 0 || y < 0 || x >= width || y >= height) continue;
+      if (unstable[y * width + x] !== unstable[k]) { edge[k] = 1; break; }
+    }
+  }
+  return { axis, dts: Float64Array.from(dts), width, height, amplitude, unstable, edge, colourRange: { lo, hi: Math.max(1, hi) } };
+}

@@ -5,7 +5,7 @@
 // Node-only front end; must not import vscode.
 
 import { promises as fs } from 'node:fs';
-import { frequencyMap, frequencyMapJson, type FrequencyMap } from '../analysis/spectrum';
+import { amplitudeOverDt, frequencyMap, frequencyMapJson, type DtAmplitudeMap, type FrequencyMap } from '../analysis/spectrum';
 import { createRun, EngineError, type RunImage } from '../engine';
 import { readImageFile, writeFileAtomically } from '../images/files';
 import { makeScene } from '../images/scenes';
@@ -50,6 +50,31 @@ function piText(th: number): string {
   return `${fmt(r).replace('-', '−')}π`;
 }
 
+/**
+ * 1d schemes: |G(θ)| over θ and dt from 0 to 2·dt, the |G| = 1 edge in ink and the declared dt dashed, so the
+ * picture shows which frequencies a larger step would make grow.
+ */
+export function spectrumPicture1d(file: string, m: FrequencyMap, d: DtAmplitudeMap): Uint8Array {
+  const outline = Uint8Array.from(d.edge);
+  // The declared dt: the row nearest to it, dashed (every other group of 4 columns).
+  let row = 0;
+  for (let r = 0; r < d.height; r++) if (Math.abs(d.dts[r] - m.dt) < Math.abs(d.dts[row] - m.dt)) row = r;
+  for (let c = 0; c < d.width; c++) if (Math.floor(c / 4) % 2 === 0) outline[row * d.width + c] = 1;
+  const where = m.linear ? 'exact (linear)' : `frozen at ${m.at?.x}`;
+  return encodeRgbPng(renderHeatmap({
+    title: `|G(θ)| of ${file.split(/[\\/]/).pop()} over θ and dt, ${where}`,
+    xLabel: 'θ / π',
+    yLabel: 'dt',
+    barLabel: '|G|',
+    xValues: Array.from(d.axis, (a) => a / Math.PI),
+    yValues: Array.from(d.dts),
+    cells: d.amplitude,
+    outline,
+    range: d.colourRange,
+    note: `ink: |G| = 1, the stable region's edge; dashed: the declared dt = ${fmt(m.dt)}${m.unstableCount ? ` (${m.unstableCount} of ${m.amplitude.length} frequencies unstable there)` : ' (stable there)'}`,
+  }));
+}
+
 export function spectrumPicture(file: string, m: FrequencyMap): Uint8Array {
   const ticks = Array.from(m.axis, (a) => a / Math.PI);
   const iso = m.isotropy;
@@ -75,7 +100,9 @@ function textReport(file: string, m: FrequencyMap): string {
     `${file}: frequency map of ${m.fields.join(', ')} at dt = ${fmt(m.dt)}, h = ${fmt(m.spacing)}, ${m.linear ? 'exact (linear scheme)' : `frozen coefficients at (${m.at?.x}, ${m.at?.y})`}`,
     `max |G| = ${fmt(m.maxAmplitude)} at θ = (${m.worstTheta.map(piText).join(', ')}); ${m.unstableCount ? `${m.unstableCount} of ${m.amplitude.length} sampled frequencies have |G| > 1` : 'every sampled frequency has |G| ≤ 1'}`,
   ];
-  if (m.isotropy) {
+  if (m.isotropy && m.dims === 1) {
+    lines.push(`operator vs ${m.equation}: relative error ${fmt(100 * m.isotropy.max)} % at θ = ${piText(m.isotropy.radius)}`);
+  } else if (m.isotropy) {
     const iso = m.isotropy;
     lines.push(`operator vs ${m.equation}: relative error at |θ| = ${piText(iso.radius)} from ${fmt(100 * iso.min)} % to ${fmt(100 * iso.max)} % by direction (spread ${fmt(100 * iso.spread)} %)`);
   }
@@ -169,7 +196,14 @@ export function spectrumMain(argv: string[]): Promise<number> {
       ...(samples !== undefined ? { samples } : {}), ...(radius !== undefined ? { radius } : {}),
       ...(o.field !== undefined ? { field: o.field } : {}), ...(state ? { state, x, y } : {}),
     });
-    if (o.out !== undefined) await writeFileAtomically(o.out, spectrumPicture(file, map));
+    if (o.out !== undefined) {
+      let picture: Uint8Array;
+      if (scheme.dims === 1) {
+        const dts = Array.from({ length: 101 }, (_, k) => (map.dt * k) / 50);
+        picture = spectrumPicture1d(file, map, amplitudeOverDt(scheme, dts, { ...(state ? { state, x, y } : {}) }));
+      } else picture = spectrumPicture(file, map);
+      await writeFileAtomically(o.out, picture);
+    }
     if (o.json) process.stdout.write(JSON.stringify({ file, ...(o.out !== undefined ? { out: o.out } : {}), ...frequencyMapJson(map) }) + '\n');
     else {
       process.stdout.write(textReport(file, map) + '\n');

@@ -67,3 +67,31 @@ describe('frequency map', () => {
     }
   });
 });
+
+describe('amplitude over θ and dt (1d picture)', () => {
+  it('1d FTCS: θ = π turns unstable exactly above dt = h²/2', async () => {
+    // Morton & Mayers 2005, §2.6: |G(π)| = |1 − 4r| ≤ 1 iff r = dt/h² ≤ 1/2.
+    const { amplitudeOverDt } = await import('../../../src/analysis/spectrum');
+    const s = schemeOf(`grid 1d\nspacing 1\nboundary reflect\nstep dt = 0.3\nsteps 1\nfield u = image\nu' = u + dt / h^2 * sum n in N2: u[n] - u\n`);
+    const dts = [0.1, 0.3, 0.49, 0.51, 0.7];
+    const d = amplitudeOverDt(s, dts, { samples: 21 });
+    expect(d.height).toBe(5);
+    const last = d.width - 1; // θ = π
+    dts.forEach((dt, r) => {
+      expect(d.amplitude[r * d.width + last]).toBeCloseTo(Math.abs(1 - 4 * dt), 12);
+      expect(d.unstable[r * d.width + last]).toBe(dt > 0.5 ? 1 : 0);
+    });
+    expect(d.edge[2 * d.width + last] + d.edge[3 * d.width + last]).toBe(2);
+  });
+});
+
+describe('frozen coefficients', () => {
+  it('Perona–Malik on the flat state has the 5-point heat map (g(0) = 1), and says where it froze', () => {
+    const pm = schemeOf(`grid 2d\nspacing 1\nboundary reflect\nparam K = 0.1\nstep dt = 0.2\nsteps 1\nfield u = image\ndiffusivity g(s) = 1 / (1 + (s / K)^2)\nu' = u + dt * sum n in N4: g(u[n] - u) * (u[n] - u)\n`);
+    const a = frequencyMap(pm, { samples: 17 });
+    const b = frequencyMap(schemeOf(heat2d(0.2)), { samples: 17 });
+    expect(a.linear).toBe(false);
+    expect(a.at).toEqual({ x: 32, y: 32 });
+    for (let k = 0; k < a.amplitude.length; k++) expect(a.amplitude[k]).toBeCloseTo(b.amplitude[k], 14);
+  });
+});
