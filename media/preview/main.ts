@@ -897,7 +897,8 @@ function renderApprox(): void {
   if (!a || a.runId !== store.runId) return;
   approxEl.hidden = false;
   approxEl.textContent = a.text;
-  approxEl.title = a.details.join('\n');
+  // Two lines at most on the page; the whole summary and the details per field in the tooltip.
+  approxEl.title = [a.text, ...a.details].join('\n');
   renderFindings();
 }
 
