@@ -494,7 +494,8 @@ export class PreviewSession {
     // (starts queued in the worker would each pay for set-up before seeing their own cancellation).
     if (this.busy && this.busy.engine === this.engine && this.engine) this.waiting = launch;
     else launch();
-    // The static verdict and the impulse response come from the analysis thread, beside the run.
+    // The static verdict and the impulse response come from the analysis thread, beside the run; what the stencil
+    // approximates and its frequency map follow the verdict (so they never delay it), for runs still current.
     this.env.analysis.verdict(g.text, knobs).then(
       (v) => {
         this.extremumByKey.set(monitorKey, v.extremumCheck);
@@ -502,17 +503,25 @@ export class PreviewSession {
         if (this.run === run) this.env.post(run.verdict);
       },
       (err: unknown) => this.env.log?.(`verdict failed: ${String(err)}`),
-    );
+    ).then(() => {
+      if (this.run === run && !this.disposed) this.requestWhy(run);
+    });
     this.requestImpulse(run, steps);
-    // What the stencil approximates and its frequency map, for these knob values (recomputed on every edit).
-    this.env.analysis.approximates(g.text, knobs).then(
+  }
+
+  /** The modified-equation summary and the frequency map of a run's scheme at its knob values. */
+  private requestWhy(run: LiveRun): void {
+    const { text, knobs, runId } = run;
+    this.env.analysis.approximates(text, knobs).then(
       (a) => {
+        // A summary frozen at a pixel the user picked meanwhile is the more specific one: it stays.
+        if (run.approximates) return;
         run.approximates = { type: 'approximates', source: this.env.source, runId, ...a };
         if (this.run === run) this.env.post(run.approximates);
       },
       (err: unknown) => this.env.log?.(`modified equation failed: ${String(err)}`),
     );
-    this.env.analysis.spectrum(g.text, knobs).then(
+    this.env.analysis.spectrum(text, knobs).then(
       (m) => {
         run.spectrum = { type: 'spectrum', source: this.env.source, runId, ...m };
         if (this.run === run) this.env.post(run.spectrum);
