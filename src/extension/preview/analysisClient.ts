@@ -50,7 +50,7 @@ export interface AnalysisService {
   decode(bytes: Uint8Array): Promise<Picture>;
   /** A/B metrics of `result` (against `reference` and `pinned` when given); see analysisCompute.compareResult. */
   compare(result: AnyPicture, reference: AnyPicture | null, pinned: AnyPicture | null): Promise<CompareResult>;
-  spectrum(text: string, knobs: KnobSet): Promise<SpectrumResult>;
+  spectrum(text: string, knobs: KnobSet, at?: FrozenAt): Promise<SpectrumResult>;
   approximates(text: string, knobs: KnobSet, at?: FrozenAt): Promise<ApproximatesResult>;
   influence(req: Omit<ToAnalysis.Influence, 'type' | 'id'>): Promise<InfluenceResult>;
   dispose(): Promise<void>;
@@ -133,8 +133,8 @@ export class AnalysisClient implements AnalysisService {
     return m.compare;
   }
 
-  async spectrum(text: string, knobs: KnobSet): Promise<SpectrumResult> {
-    const m = await this.request({ type: 'spectrum', id: this.nextId++, text, knobs });
+  async spectrum(text: string, knobs: KnobSet, at?: FrozenAt): Promise<SpectrumResult> {
+    const m = await this.request({ type: 'spectrum', id: this.nextId++, text, knobs, ...(at ? { at } : {}) });
     if (m.type !== 'spectrum') throw new Error('unexpected answer');
     return m.spectrum;
   }
@@ -176,7 +176,7 @@ export class SplitAnalysis implements AnalysisService {
   scene(scene: string, noise: number, seed: number, size: number): ReturnType<AnalysisService['scene']> { return this.main.scene(scene, noise, seed, size); }
   decode(bytes: Uint8Array): Promise<Picture> { return this.main.decode(bytes); }
   compare(result: AnyPicture, reference: AnyPicture | null, pinned: AnyPicture | null): Promise<CompareResult> { return this.main.compare(result, reference, pinned); }
-  spectrum(text: string, knobs: KnobSet): Promise<SpectrumResult> { return this.main.spectrum(text, knobs); }
+  spectrum(text: string, knobs: KnobSet, at?: FrozenAt): Promise<SpectrumResult> { return this.main.spectrum(text, knobs, at); }
   approximates(text: string, knobs: KnobSet, at?: FrozenAt): Promise<ApproximatesResult> { return this.main.approximates(text, knobs, at); }
 
   async influence(req: Omit<ToAnalysis.Influence, 'type' | 'id'>): Promise<InfluenceResult> {

@@ -133,11 +133,15 @@ export function levelSegments(values: ArrayLike<number>, axis: ArrayLike<number>
   return out;
 }
 
-/** The frequency map for the panel (src/analysis/spectrum.ts), with the edge where |G| crosses 1 + MARGIN. */
-export function computeSpectrum(text: string, knobs: KnobSet): SpectrumResult {
+/**
+ * The frequency map for the panel (src/analysis/spectrum.ts), with the edge where |G| crosses 1 + MARGIN; frozen at
+ * a picked pixel of a run's state when `at` is given (schemes that are not linear), else at a flat state.
+ */
+export function computeSpectrum(text: string, knobs: KnobSet, at?: FrozenAt): SpectrumResult {
   const scheme = schemeWithKnobs(text, knobs);
-  const m = frequencyMap(scheme, { dt: knobs.dt, params: knobs.values });
-  const where = m.linear ? 'exact for this linear scheme' : `frozen coefficients at (${m.at?.x ?? '?'}, ${m.at?.y ?? '?'}) of a flat state`;
+  const frozen = at ? { state: { width: at.width, height: at.height, fields: at.fields, t: at.t }, x: at.x, y: at.y } : {};
+  const m = frequencyMap(scheme, { dt: knobs.dt, params: knobs.values, ...frozen });
+  const where = m.linear ? 'exact for this linear scheme' : `frozen coefficients at (${m.at?.x ?? '?'}, ${m.at?.y ?? '?'}) ${at ? `of the run's state at step ${at.step}` : 'of a flat state'}`;
   // A map whose |G| is constant up to rounding (e.g. |G| = 1 everywhere) is shown on 0 … hi, not as rounding noise.
   const flat = m.colourRange.hi - m.colourRange.lo < 1e-6 * Math.max(1, m.colourRange.hi);
   const unstable = m.unstableCount > 0 ? `|G| > 1 on ${m.unstableCount} of ${m.width * m.height} frequencies (inside the accent edge)` : 'no frequency grows (|G| ≤ 1 everywhere)';

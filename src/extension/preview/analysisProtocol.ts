@@ -45,7 +45,7 @@ export namespace ToAnalysis {
     readonly pinned: AnyPicture | null;
   }
   /** The frequency map of the scheme at these knob values (ToPreview.Spectrum without its envelope). */
-  export interface Spectrum { readonly type: 'spectrum'; readonly id: number; readonly text: string; readonly knobs: KnobSet }
+  export interface Spectrum { readonly type: 'spectrum'; readonly id: number; readonly text: string; readonly knobs: KnobSet; readonly at?: FrozenAt }
   /** What the scheme approximates (modified equation) and the diagnostics that go with it. */
   export interface Approximates {
     readonly type: 'approximates';

@@ -19,7 +19,7 @@ function answer(msg: ToAnalysis.Type): FromAnalysis.Type {
       case 'scene': return { type: 'scene', id: msg.id, ...scenePictures(msg.scene, msg.noise, msg.seed, msg.size) };
       case 'decode': return { type: 'decode', id: msg.id, picture: decodePicture(msg.bytes) };
       case 'compare': return { type: 'compare', id: msg.id, compare: compareResult(msg.result, msg.reference, msg.pinned) };
-      case 'spectrum': return { type: 'spectrum', id: msg.id, spectrum: computeSpectrum(msg.text, msg.knobs) };
+      case 'spectrum': return { type: 'spectrum', id: msg.id, spectrum: computeSpectrum(msg.text, msg.knobs, msg.at) };
       case 'approximates': return { type: 'approximates', id: msg.id, approximates: computeApproximates(msg.text, msg.knobs, msg.at) };
       case 'influence': return { type: 'influence', id: msg.id, influence: computeInfluence(msg) };
     }

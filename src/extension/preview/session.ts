@@ -523,6 +523,7 @@ export class PreviewSession {
     );
     this.env.analysis.spectrum(text, knobs).then(
       (m) => {
+        if (run.spectrum) return;
         run.spectrum = { type: 'spectrum', source: this.env.source, runId, ...m };
         if (this.run === run) this.env.post(run.spectrum);
       },
@@ -873,13 +874,24 @@ export class PreviewSession {
     if (msg.step > 0) this.requestImpulse(r, msg.step);
     // What the scheme approximates with its coefficients frozen at the picked pixel of this step's state (for
     // linear schemes the same as before; for others it follows the pixel).
-    this.env.analysis.approximates(r.text, r.knobs, { fields: fields as Float32Array[], width: r.started.width, height: r.started.height, t: frame.t, step: msg.step, x: msg.x, y: msg.y }).then(
+    const at = { fields: fields as Float32Array[], width: r.started.width, height: r.started.height, t: frame.t, step: msg.step, x: msg.x, y: msg.y };
+    this.env.analysis.approximates(r.text, r.knobs, at).then(
       (a) => {
         if (this.run !== r) return;
         r.approximates = { type: 'approximates', source: this.env.source, runId: r.runId, ...a };
         this.env.post(r.approximates);
       },
       (err: unknown) => this.env.log?.(`modified equation at (${msg.x}, ${msg.y}) failed: ${String(err)}`),
+    );
+    // Likewise the frequency map, for schemes whose weights depend on the state (a linear scheme's map does not change).
+    if (r.spectrum && r.spectrum.note.includes('exact for this linear scheme')) return;
+    this.env.analysis.spectrum(r.text, r.knobs, at).then(
+      (m) => {
+        if (this.run !== r) return;
+        r.spectrum = { type: 'spectrum', source: this.env.source, runId: r.runId, ...m };
+        this.env.post(r.spectrum);
+      },
+      (err: unknown) => this.env.log?.(`frequency map at (${msg.x}, ${msg.y}) failed: ${String(err)}`),
     );
   }
 

@@ -83,7 +83,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
     scene: async (_name, _noise, _seed, size) => ({ noisy: { width: size, height: size, data: new Float32Array(size * size).fill(0.5) }, clean: { width: size, height: size, data: new Float32Array(size * size) } }),
     decode: async () => ({ width: 1, height: 1, data: new Float32Array(1) }),
     compare: async (result, reference, pinned) => compareResult(result, reference, pinned),
-    spectrum: async (text, knobs) => computeSpectrum(text, knobs),
+    spectrum: async (text, knobs, at) => computeSpectrum(text, knobs, at),
     approximates: async (text, knobs, at) => computeApproximates(text, knobs, at),
     influence: async (req) => { influenceCalls.push(req); return computeInfluence(req); },
     dispose: async () => undefined,
@@ -662,6 +662,8 @@ describe('what the scheme approximates, its frequency map, its influence map and
     expect(a?.details.at(-1)).toMatch(/^Frozen coefficients at \(15, 4\) of the run's state at step 1/);
     // Across the step edge the diffusivity 1/(1 + (1/K)²) = 0.2 (K = 0.5) weakens the x-direction: no longer isotropic.
     expect(a?.text).toMatch(/anisotropic/);
+    // The frequency map follows the pixel too.
+    expect(t.of('spectrum').at(-1)?.note).toMatch(/frozen coefficients at \(15, 4\) of the run's state at step 1/);
   });
 
   it('passes the engine\'s per-step measures of the shown field on with its frames', async () => {
