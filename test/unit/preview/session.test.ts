@@ -13,6 +13,7 @@ import { PreviewSession, type EngineLike, type FitJob, type FitOutcome, type Ses
 import type { BackendChoice } from '../../../src/engine/wasm/select';
 import type { InputChoice, ToPreview } from '../../../src/protocol/preview';
 import { compareResult, computeApproximates, computeInfluence, computeSpectrum } from '../../../src/extension/preview/analysisCompute';
+import { SUPERSEDED } from '../../../src/extension/preview/analysisProtocol';
 
 const SCHEME = [
   'grid 2d',
@@ -64,7 +65,7 @@ function stats(step: number): FrameStats {
   return { step, t: step * 0.2, fields: { u: { min: 0, max: 1, mean: 0.5 } }, psnr: 20 + step };
 }
 
-function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown; backend?: BackendChoice; fit?: SessionEnv['fit']; accept?: boolean; pinned?: unknown } = {}) {
+function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown; backend?: BackendChoice; fit?: SessionEnv['fit']; accept?: boolean; pinned?: unknown; influence?: AnalysisService['influence'] } = {}) {
   const posted: ToPreview.Type[] = [];
   const runs: FakeRun[] = [];
   const engines: FakeEngine[] = [];
@@ -85,7 +86,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
     compare: async (result, reference, pinned) => compareResult(result, reference, pinned),
     spectrum: async (text, knobs, at) => computeSpectrum(text, knobs, at),
     approximates: async (text, knobs, at) => computeApproximates(text, knobs, at),
-    influence: async (req) => { influenceCalls.push(req); return computeInfluence(req); },
+    influence: async (req) => { influenceCalls.push(req); return opts.influence ? opts.influence(req) : computeInfluence(req); },
     dispose: async () => undefined,
   };
   const edits: { edits: unknown; text: string }[] = [];
@@ -664,6 +665,22 @@ describe('what the scheme approximates, its frequency map, its influence map and
     expect(a?.text).toMatch(/anisotropic/);
     // The frequency map follows the pixel too.
     expect(t.of('spectrum').at(-1)?.note).toMatch(/frozen coefficients at \(15, 4\) of the run's state at step 1/);
+  });
+
+  it('drops an influence map superseded by a newer request silently, and reports other failures', async () => {
+    let fail = SUPERSEDED;
+    const t = setup({ influence: async () => { throw new Error(fail); } });
+    t.session.documentChanged(SCHEME);
+    await settle();
+    const run = t.runs.at(-1) as FakeRun;
+    run.cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
+    run.cb.onFrame?.(stats(1), { u: snapshot(32, 32, () => 0) });
+    const runId = t.session.currentRunId as number;
+    await t.session.handle({ type: 'requestInfluence', source: src, runId, step: 1, x: 3, y: 3 });
+    expect(t.of('notice').length).toBe(0);
+    fail = 'keeping 9000 states needs too much';
+    await t.session.handle({ type: 'requestInfluence', source: src, runId, step: 1, x: 3, y: 3 });
+    expect(t.of('notice').at(-1)).toMatchObject({ level: 'error', text: 'The influence map of (3, 3) could not be computed: keeping 9000 states needs too much' });
   });
 
   it('passes the engine\'s per-step measures of the shown field on with its frames', async () => {
