@@ -343,7 +343,7 @@ function draw(): void {
   }
   ctx.imageSmoothingEnabled = false;
   ctx.drawImage(off, 0, 0, off.width, off.height, t.offsetX, t.offsetY, off.width * t.scale, off.height * t.scale);
-  if (state.view === 'influence') drawInfluence(ctx, t, s, oneD ? rep : 0);
+  if (state.view === 'influence') drawInfluence(ctx, t, s, oneD ? rep : 0, fh);
   // The picked pixel: one accent ring, at least a few screen pixels wide.
   if (state.picked) {
     const p = framePixelOf(state.picked.x, state.picked.y, s);
@@ -363,15 +363,13 @@ function draw(): void {
  * diverging colours (opacity growing with |weight|), at full-resolution positions mapped to the frame's pixels.
  * 1-D schemes draw it over the first band (step 0, the input) of the space–time picture.
  */
-function drawInfluence(ctx: CanvasRenderingContext2D, t: ViewTransform, s: ToPreview.RunStarted, band: number): void {
+function drawInfluence(ctx: CanvasRenderingContext2D, t: ViewTransform, s: ToPreview.RunStarted, band: number, drawnRows: number): void {
   const m = influence;
   const dim = getComputedStyle(document.body).getPropertyValue('--vscode-editor-background').trim() || '#1e1e1e';
   ctx.save();
   ctx.globalAlpha = 0.55;
   ctx.fillStyle = dim;
-  const fw = s.frameWidth;
-  const fh = band ? band : s.frameHeight;
-  ctx.fillRect(t.offsetX, t.offsetY, fw * t.scale, fh * t.scale);
+  ctx.fillRect(t.offsetX, t.offsetY, s.frameWidth * t.scale, drawnRows * t.scale);
   ctx.restore();
   if (!m || m.runId !== store.runId) return;
   influenceOff.width = m.width;
