@@ -719,7 +719,7 @@ function renderImpulse(m: ToPreview.Impulse): void {
 
 // ------------------------------------------------------------------------------------------------ frequency map
 
-const isoChart = new LineChart(chartIso, [{ label: 'error %', colourVar: '--vscode-charts-purple', fallback: '#8a63d2' }], 'direction (degrees)');
+const isoChart = new LineChart(chartIso, [{ label: 'error %', colourVar: '--vscode-charts-purple', fallback: '#8a63d2' }], 'direction (degrees)', 120, (v) => fmt(v, 3));
 const ampChart = new LineChart(chartAmp, [{ label: '|G|', colourVar: '--vscode-charts-purple', fallback: '#8a63d2' }], 'θ');
 
 function themeVar(name: string, fallback: string): string {
@@ -737,7 +737,7 @@ function renderSpectrum(): void {
   const cssW = Math.max(180, Math.min(300, Math.floor(spectrumSection.clientWidth || 260)));
   const bar = 58;
   const mapW = cssW - bar;
-  const mapH = m.dims === 2 ? mapW : 28;
+  const mapH = m.dims === 2 ? mapW : 44;
   const pad = 14;
   const cssH = mapH + pad + 4;
   const dpr = window.devicePixelRatio || 1;
@@ -805,6 +805,8 @@ function renderSpectrum(): void {
   ctx.fillText(fmt(m.lo, 3), bx + bw + 3, mapH);
   if (1 > m.lo && 1 < m.hi) {
     const y1 = (1 - (1 - m.lo) / (m.hi - m.lo)) * mapH;
+    // The "1" label only where it does not run into the range labels at the ends.
+    const labelled = y1 > 14 && y1 < mapH - 14;
     ctx.strokeStyle = accent;
     ctx.lineWidth = 2;
     ctx.beginPath();
@@ -812,7 +814,7 @@ function renderSpectrum(): void {
     ctx.lineTo(bx + bw + 3, y1);
     ctx.stroke();
     ctx.textBaseline = 'middle';
-    ctx.fillText('1', bx + bw + 3, y1);
+    if (labelled) ctx.fillText('1', bx + bw + 3, y1);
   }
   spectrumCanvas.setAttribute('aria-label', `frequency map of |G| from ${fmt(m.lo, 3)} to ${fmt(m.hi, 3)}; ${spectrumText(m)}`);
   spectrumText_.textContent = `${spectrumText(m)}. ${m.note}`;
@@ -911,14 +913,15 @@ const rowChart = new LineChart(chartRow, [
   { label: 'now', colourVar: '--vscode-charts-orange', fallback: '#d98c1f' },
 ], 'x');
 
+const axisNumber = (v: number) => fmt(v, 3);
 const measureCharts = {
-  tv: new LineChart(measureBoxes.tv.el, [{ label: 'TV', colourVar: '--vscode-charts-blue', fallback: '#3b7ddd' }], 'step'),
-  energy: new LineChart(measureBoxes.energy.el, [{ label: 'energy', colourVar: '--vscode-charts-orange', fallback: '#d98c1f' }], 'step'),
+  tv: new LineChart(measureBoxes.tv.el, [{ label: 'TV', colourVar: '--vscode-charts-blue', fallback: '#3b7ddd' }], 'step', 120, axisNumber),
+  energy: new LineChart(measureBoxes.energy.el, [{ label: 'energy', colourVar: '--vscode-charts-orange', fallback: '#d98c1f' }], 'step', 120, axisNumber),
   change: new LineChart(measureBoxes.change.el, [
     { label: 'RMS', colourVar: '--vscode-charts-green', fallback: '#3c9d5d' },
     { label: 'max', colourVar: '--vscode-charts-red', fallback: '#d9534f', dash: [4, 3] },
-  ], 'step'),
-  drift: new LineChart(measureBoxes.drift.el, [{ label: 'drift', colourVar: '--vscode-charts-purple', fallback: '#8a63d2' }], 'step'),
+  ], 'step', 120, axisNumber),
+  drift: new LineChart(measureBoxes.drift.el, [{ label: 'drift', colourVar: '--vscode-charts-purple', fallback: '#8a63d2' }], 'step', 120, axisNumber),
 };
 const allCharts = (): LineChart[] => [rangeChart, psnrChart, rowChart, isoChart, ampChart, ...Object.values(measureCharts)];
 
