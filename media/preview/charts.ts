@@ -29,7 +29,8 @@ export class LineChart {
   private data: uPlot.AlignedData = [[]];
   private marks: Mark[] = [];
 
-  constructor(private readonly host: HTMLElement, private readonly lines: readonly LineDef[], private readonly xLabel: string, private height = 120) {}
+  /** `yFormat` labels the y axis (uPlot's default rounds tiny values, such as a mean drift of 1e-7, to 0). */
+  constructor(private readonly host: HTMLElement, private readonly lines: readonly LineDef[], private readonly xLabel: string, private height = 120, private readonly yFormat?: (v: number) => string) {}
 
   private build(): void {
     this.plot?.destroy();
@@ -44,7 +45,10 @@ export class LineChart {
       legend: { show: true, live: false },
       cursor: { drag: { x: false, y: false }, points: { show: false } },
       scales: { x: { time: false } },
-      axes: [{ ...axis, label: this.xLabel, labelSize: 14, size: 30 }, { ...axis, size: 44 }],
+      axes: [
+        { ...axis, label: this.xLabel, labelSize: 14, size: 30 },
+        { ...axis, size: 44, ...(this.yFormat ? { values: (_u: uPlot, splits: number[]) => splits.map((v) => (this.yFormat as (v: number) => string)(v)) } : {}) },
+      ],
       series: [
         { label: this.xLabel },
         ...this.lines.map((l) => ({ label: l.label, stroke: themeColour(l.colourVar, l.fallback), width: l.width ?? 1.5, dash: l.dash, spanGaps: false, points: { show: false } })),

@@ -8,6 +8,9 @@
 // Each half is a straight line in Lab from the middle to its end, so lightness changes linearly with |v| and the
 // colour difference per step is nearly constant (Lab is built to be roughly perceptually uniform); colours that
 // fall outside sRGB are clipped per channel (only near the ends, by a few units).
+// Sequential (the frequency map's |G|): our own straight line in Lab from a deep slate Lab(18, 6, -30) to a pale
+// sand Lab(94, -4, 40), so lightness rises linearly with the value on either theme; values past the stable edge
+// (|G| > 1) are told apart by the edge line drawn over the map, not by a second hue.
 
 export type Rgb = readonly [number, number, number];
 export type Lab = readonly [number, number, number];
@@ -81,4 +84,25 @@ export function luminance([r, g, b]: Rgb): number {
     return v <= 0.04045 ? v / 12.92 : ((v + 0.055) / 1.055) ** 2.4;
   };
   return 0.2126 * lin(r) + 0.7152 * lin(g) + 0.0722 * lin(b);
+}
+
+export const SEQUENTIAL_LOW: Lab = [18, 6, -30];
+export const SEQUENTIAL_HIGH: Lab = [94, -4, 40];
+
+/** 256 RGB triples from SEQUENTIAL_LOW (entry 0) to SEQUENTIAL_HIGH (entry 255), a straight line in Lab. */
+export function sequentialTable(): Uint8Array {
+  const out = new Uint8Array(256 * 3);
+  for (let i = 0; i < 256; i++) {
+    const [r, g, b] = labToRgb(mix(SEQUENTIAL_LOW, SEQUENTIAL_HIGH, i / 255));
+    out[i * 3] = r;
+    out[i * 3 + 1] = g;
+    out[i * 3 + 2] = b;
+  }
+  return out;
+}
+
+/** Table index of v in [lo, hi] (clamped; NaN maps to 0). */
+export function sequentialIndex(v: number, lo: number, hi: number): number {
+  if (!(hi > lo) || Number.isNaN(v)) return 0;
+  return Math.max(0, Math.min(255, Math.round(((v - lo) / (hi - lo)) * 255)));
 }

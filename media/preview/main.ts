@@ -7,11 +7,12 @@ import 'uplot/dist/uPlot.min.css';
 import './preview.css';
 import { validateToPreview, type FromPreview, type KnobSpec, type ToPreview, type WireFinding, type WireRange, type InputChoice, type NamedInputSpec, type SceneName, SCENE_NAMES } from '../../src/protocol/preview';
 import { LineChart } from './charts';
-import { divergingCss, divergingTable, labToRgb, luminance, NEGATIVE_END, POSITIVE_END } from './colour';
+import { divergingCss, divergingTable, labToRgb, luminance, NEGATIVE_END, POSITIVE_END, SEQUENTIAL_HIGH, SEQUENTIAL_LOW, sequentialTable } from './colour';
 import { restoreState, type UiState } from './state';
 import {
   changeScale, findingLine, findingText, fitText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint, paintRgb,
   panBy, seriesOf, seriesSummary, SLIDER_STEPS, sliderFromValue, spaceTimeRepeat, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt, type ViewMode, type ViewTransform,
+  betweenText, comparisonRows, influenceText, isotropySeries, measureSeriesOf, paintInfluence, paintSpectrum, spectrumText, thetaToScreen,
 } from './viewModel';
 
 // ------------------------------------------------------------------------------------------------ host link
@@ -79,13 +80,15 @@ const header = h('header', { class: 'bar' },
 // The named inputs' choosers (`image "mask"`): shown only when the scheme reads named inputs.
 const namedBar = h('div', { class: 'bar named-inputs', role: 'group', 'aria-label': 'named inputs', hidden: '' });
 const problemsEl = h('div', { class: 'problems', role: 'alert', hidden: '' });
+// What the scheme approximates (modified equation), one line under the verdict; details in its tooltip.
+const approxEl = h('div', { class: 'approx', role: 'note', 'aria-live': 'polite', hidden: '' });
 const noticeEl = h('div', { class: 'notice', role: 'status', hidden: '' });
 
 const canvas = h('canvas', { class: 'picture', tabindex: '0', role: 'img', 'aria-label': 'the field at the current step' });
 const readout = h('span', { class: 'readout', 'aria-live': 'off', text: 'hover the picture: x, y, value' });
 const viewButtons = new Map<ViewMode, HTMLButtonElement>();
 const viewBar = h('div', { class: 'views', role: 'group', 'aria-label': 'show' }, h('span', { text: 'show:' }));
-for (const [mode, label, key] of [['now', 'now', 'n'], ['start', 'start', 's'], ['change', 'change', 'c']] as const) {
+for (const [mode, label, key] of [['now', 'now', 'n'], ['start', 'start', 's'], ['change', 'change', 'c'], ['influence', 'influence', 'i']] as const) {
   const b = button(label, `show ${label} (key ${key})`, () => setView(mode), 'toggle');
   b.setAttribute('aria-keyshortcuts', key);
   viewButtons.set(mode, b);
@@ -102,6 +105,8 @@ const colourBtn = button('colour', 'show the red, green and blue fields as one c
 colourBtn.setAttribute('aria-pressed', 'true');
 colourBtn.hidden = true;
 viewBar.append(colourBtn);
+// A/B: pins the shown step of this run as the baseline the next runs are compared with.
+const pinBtn = button('pin this step', 'pin the shown step as the baseline for A/B comparison (kept across edits)', () => pinCurrent());
 const legendSwatch = h('span', { class: 'swatch' });
 const legendText = h('span');
 const legendEl = h('div', { class: 'legend', 'aria-hidden': 'true' }, legendSwatch, legendText);
@@ -121,6 +126,7 @@ const scrubber = h('div', { class: 'scrubber' },
     button('▶|', 'last step (key End)', () => showIndex(store.last)),
   ),
   scrub,
+  h('div', { class: 'row' }, pinBtn),
 );
 const fieldSel = h('select', { id: 'field', 'aria-label': 'field shown' });
 const fieldRow = h('div', { class: 'row', hidden: '' }, h('label', { for: 'field', text: 'field' }), fieldSel);
@@ -139,7 +145,32 @@ const weightsTitle = h('h2', { id: 'weights-h', text: 'weights' });
 const weightsEl = h('div', { class: 'weights', text: 'click a pixel to see the weights it is updated with' });
 const impulseEl = h('div', { class: 'impulse' });
 const weightsSection = h('section', { class: 'card', 'aria-labelledby': 'weights-h' }, weightsTitle, weightsEl, impulseEl);
-const right = h('section', { class: 'right', 'aria-label': 'controls' }, scrubber, fieldRow, derivRow, knobsSection, weightsSection);
+// The frequency map: |G(θ)| with the stable region's edge and a colour bar, drawn into one canvas; under it the
+// isotropy error by direction (2-D) or |G| along θ (1-D).
+const spectrumCanvas = h('canvas', { class: 'spectrum', role: 'img', 'aria-label': 'frequency map: not computed yet' });
+const spectrumText_ = h('p', { class: 'spectrum-text', text: 'computed for each run' });
+const chartIso = h('div', { class: 'chart' });
+const chartAmp = h('div', { class: 'chart', hidden: '' });
+const isoTitle = h('h3', { text: 'isotropy error by direction' });
+const isoBox = h('figure', { class: 'chart-box', hidden: '' }, isoTitle, chartIso, chartAmp);
+const spectrumSection = h('section', { class: 'card', 'aria-labelledby': 'spectrum-h' }, h('h2', { id: 'spectrum-h', text: 'frequency map |G(θ)|' }), spectrumCanvas, spectrumText_, isoBox);
+const right = h('section', { class: 'right', 'aria-label': 'controls' }, scrubber, fieldRow, derivRow, knobsSection, weightsSection, spectrumSection);
+
+// A/B: the pinned result, the current one and their difference side by side, with the metric deltas.
+const abLabel = h('p', { class: 'ab-label' });
+const abCanvases = (['pinned', 'now', 'now − pinned'] as const).map((name) => {
+  const c = h('canvas', { class: 'ab-picture', role: 'img', 'aria-label': name });
+  return { name, canvas: c, caption: h('figcaption', { text: name }) };
+});
+const abTable = h('table', { class: 'ab-table', 'aria-label': 'metrics of the pinned and the current result' });
+const abBetween = h('p', { class: 'ab-between' });
+const unpinBtn = button('unpin', 'forget the pinned result', () => post({ type: 'unpin' }));
+const abSection = h('section', { class: 'card ab', 'aria-labelledby': 'ab-h', hidden: '' },
+  h('div', { class: 'row' }, h('h2', { id: 'ab-h', text: 'A/B against the pinned result' }), h('span', { class: 'spacer' }), unpinBtn),
+  abLabel,
+  h('div', { class: 'ab-pictures' }, ...abCanvases.map((x) => h('figure', {}, x.canvas, x.caption))),
+  abTable, abBetween,
+);
 
 const findingsEl = h('ul', { class: 'findings' });
 const findingsSection = h('section', { class: 'card', 'aria-labelledby': 'findings-h' }, h('h2', { id: 'findings-h', text: 'findings' }), findingsEl);
@@ -151,15 +182,22 @@ const psnrTitle = h('h3', { text: 'PSNR against clean' });
 const rowTitle = h('h3', { text: 'row profile (pick a pixel)' });
 const rangeSummary = h('p', { class: 'sr-only' });
 const psnrBox = h('figure', { class: 'chart-box' }, psnrTitle, chartPsnr);
+// Per-step measures (when the engine reports them): total variation, Dirichlet energy, change per step, mean drift.
+const measureDefs = [['tv', 'total variation'], ['energy', 'Dirichlet energy'], ['change', 'change per step ‖uⁿ⁺¹ − uⁿ‖'], ['drift', 'mean drift (mean − initial mean)']] as const;
+const measureBoxes = Object.fromEntries(measureDefs.map(([k, title]) => {
+  const el = h('div', { class: 'chart' });
+  return [k, { el, box: h('figure', { class: 'chart-box measure', hidden: '', 'data-measure': k }, h('h3', { text: title }), el) }];
+})) as unknown as Record<(typeof measureDefs)[number][0], { el: HTMLElement; box: HTMLElement }>;
 const charts = h('section', { class: 'charts', 'aria-label': 'charts' },
   h('figure', { class: 'chart-box' }, rangeTitle, chartRange, rangeSummary),
   psnrBox,
   h('figure', { class: 'chart-box' }, rowTitle, chartRow),
+  ...measureDefs.map(([k]) => measureBoxes[k].box),
 );
 const footer = h('footer', { class: 'caution', text: 'Filtered images can lose or gain small structures. Not for diagnostic use.' });
 
 const main = h('main', { class: 'grid' }, left, right);
-document.body.append(header, namedBar, problemsEl, noticeEl, main, findingsSection, charts, footer);
+document.body.append(header, namedBar, approxEl, problemsEl, noticeEl, main, abSection, findingsSection, charts, footer);
 document.title = `Fluxel · ${FILE_NAME}`;
 
 // ------------------------------------------------------------------------------------------------ run state
@@ -182,6 +220,13 @@ let fit: ToPreview.Fit | null = null;
 let verdict: ToPreview.Verdict | null = null;
 let weights: ToPreview.Weights | null = null;
 let profile: ToPreview.Profile | null = null;
+let spectrum: ToPreview.Spectrum | null = null;
+let influence: ToPreview.Influence | null = null;
+let approximates: ToPreview.Approximates | null = null;
+let pinned: ToPreview.Baseline['pinned'] = null;
+let comparison: ToPreview.Comparison | null = null;
+const influenceOff = document.createElement('canvas');
+const sequential = sequentialTable();
 /** After a reload the page goes back to the remembered step once its frame arrives, instead of following. */
 let restoreStep = state.step;
 const off = document.createElement('canvas');
@@ -197,11 +242,34 @@ function setView(mode: ViewMode): void {
   save({ view: mode });
   document.body.dataset.view = mode;
   for (const [m, b] of viewButtons) b.setAttribute('aria-pressed', String(m === mode));
+  if (mode === 'influence') requestInfluenceSoon();
   updateLegend();
   draw();
 }
 
+/** In the influence view, asks for the picked pixel's influence map at the shown step (once the step settles). */
+let influenceTimer: number | null = null;
+function requestInfluenceSoon(): void {
+  if (state.view !== 'influence' || influenceTimer !== null) return;
+  influenceTimer = window.setTimeout(() => {
+    influenceTimer = null;
+    const f = store.frames[current];
+    const p = state.picked;
+    if (!f || !p || state.view !== 'influence') return;
+    if (influence && influence.runId === store.runId && influence.step === f.step && influence.x === p.x && influence.y === p.y) return;
+    post({ type: 'requestInfluence', runId: store.runId, step: f.step, x: p.x, y: p.y });
+  }, 120);
+}
+
 function updateLegend(): void {
+  if (state.view === 'influence') {
+    const m = influence && influence.runId === store.runId ? influence : null;
+    const neg = labToRgb(NEGATIVE_END);
+    const pos = labToRgb(POSITIVE_END);
+    legendText.textContent = m ? `influence −${fmt(m.peak, 3)} … 0 … +${fmt(m.peak, 3)} over the input` : state.picked ? 'influence: computing…' : 'influence: click a pixel';
+    legendSwatch.style.backgroundImage = `linear-gradient(to right, rgb(${neg.join(',')}), ${divergingCss(diverging, 0, 1)}, rgb(${pos.join(',')}))`;
+    return;
+  }
   if (state.view !== 'change') {
     legendText.textContent = `grey ${fmt(win.lo, 3)} … ${fmt(win.hi, 3)}`;
     legendSwatch.style.backgroundImage = 'linear-gradient(to right, #000, #fff)';
@@ -280,7 +348,8 @@ function draw(): void {
     const img = octx.createImageData(fw, fh);
     // Derivative frames (f.wrt) are signed: diverging colours about zero, like the change view about the start.
     const base = f.wrt !== undefined ? new Float32Array(fw) : f0.data;
-    const mode = f.wrt !== undefined ? 'change' : state.view;
+    // The influence view shows the input under the map.
+    const mode = f.wrt !== undefined ? 'change' : state.view === 'influence' ? 'start' : state.view;
     const scale = mode === 'change' ? Math.max(1e-300, ...store.frames.slice(0, current + 1).map((fr) => changeScale(fr.data, base))) : 0;
     const row = new Uint8ClampedArray(fw * 4);
     for (let r = 0; r <= current; r++) {
@@ -297,13 +366,15 @@ function draw(): void {
   } else {
     const img = octx.createImageData(fw, fh);
     colourBtn.hidden = !f.colour;
-    const rgb = state.view === 'start' ? f0.colour : f.colour;
+    const rgb = state.view === 'start' || state.view === 'influence' ? f0.colour : f.colour;
+    // The influence view shows the input (what the weights act on) under the map.
     if (colourView && rgb && state.view !== 'change') paintRgb(img.data, rgb.red, rgb.green, rgb.blue);
-    else paint(img.data, state.view, f.data, f0.data, win, diverging, state.view === 'change' ? changeScale(f.data, f0.data) : 0);
+    else paint(img.data, state.view === 'influence' ? 'start' : state.view, f.data, f0.data, win, diverging, state.view === 'change' ? changeScale(f.data, f0.data) : 0);
     octx.putImageData(img, 0, 0);
   }
   ctx.imageSmoothingEnabled = false;
   ctx.drawImage(off, 0, 0, off.width, off.height, t.offsetX, t.offsetY, off.width * t.scale, off.height * t.scale);
+  if (state.view === 'influence') drawInfluence(ctx, t, s, oneD ? rep : 0, fh);
   // The picked pixel: one accent ring, at least a few screen pixels wide.
   if (state.picked) {
     const p = framePixelOf(state.picked.x, state.picked.y, s);
@@ -316,6 +387,37 @@ function draw(): void {
     ctx.strokeRect(cx - size / 2 - 1, cy - size / 2 - 1, size + 2, size + 2);
   }
   canvas.setAttribute('aria-label', `${f.wrt !== undefined ? `derivative ∂${f.field}/∂${f.wrt}` : `${state.view} view of ${f.field}`}, ${stepLabel(f.step, s.steps, f.t)}; min ${fmt(f.stats.min)}, max ${fmt(f.stats.max)}, mean ${fmt(f.stats.mean)}`);
+}
+
+/**
+ * The influence map over the picture: the input is dimmed, then each input pixel's weight is laid over it in the
+ * diverging colours (opacity growing with |weight|), at full-resolution positions mapped to the frame's pixels.
+ * 1-D schemes draw it over the first band (step 0, the input) of the space–time picture.
+ */
+function drawInfluence(ctx: CanvasRenderingContext2D, t: ViewTransform, s: ToPreview.RunStarted, band: number, drawnRows: number): void {
+  const m = influence;
+  const dim = getComputedStyle(document.body).getPropertyValue('--vscode-editor-background').trim() || '#1e1e1e';
+  ctx.save();
+  ctx.globalAlpha = 0.55;
+  ctx.fillStyle = dim;
+  ctx.fillRect(t.offsetX, t.offsetY, s.frameWidth * t.scale, drawnRows * t.scale);
+  ctx.restore();
+  if (!m || m.runId !== store.runId) return;
+  influenceOff.width = m.width;
+  influenceOff.height = m.height;
+  const octx = influenceOff.getContext('2d');
+  if (!octx) return;
+  const img = octx.createImageData(m.width, m.height);
+  paintInfluence(img.data, m.data, m.peak, diverging);
+  octx.putImageData(img, 0, 0);
+  // The frames' integer downsampling factor (as in framePixelOf).
+  const k = Math.max(Math.ceil(s.width / s.frameWidth), s.height === 1 ? 1 : Math.ceil(s.height / s.frameHeight));
+  const x = t.offsetX + (m.x0 / k) * t.scale;
+  const y = t.offsetY + (band ? 0 : (m.y0 / k) * t.scale);
+  const w = (m.width / k) * t.scale;
+  const hh = band ? band * t.scale : (m.height / k) * t.scale;
+  ctx.imageSmoothingEnabled = k > 1;
+  ctx.drawImage(influenceOff, 0, 0, m.width, m.height, x, y, w, hh);
 }
 
 let dragging: { x: number; y: number; moved: boolean } | null = null;
@@ -401,6 +503,11 @@ function pickPixel(x: number, y: number, step: number): void {
   post({ type: 'pickPixel', runId: store.runId, step, x, y });
   post({ type: 'requestProfile', runId: store.runId, step, row: y });
   weightsTitle.textContent = `weights at (${x}, ${y}), step ${step}`;
+  if (state.view === 'influence') {
+    influence = null;
+    post({ type: 'requestInfluence', runId: store.runId, step, x, y });
+    updateLegend();
+  }
   draw();
 }
 
@@ -422,6 +529,27 @@ function showIndex(i: number, byUser = true): void {
   draw();
   scheduleCharts();
   if (state.row !== null && byUser) requestProfileSoon();
+  if (byUser) {
+    requestInfluenceSoon();
+    requestComparisonSoon();
+  }
+  renderAB();
+}
+
+/** Asks for the A/B metrics of the shown step against the pinned result (once the step settles). */
+let comparisonTimer: number | null = null;
+function requestComparisonSoon(): void {
+  if (!pinned || comparisonTimer !== null) return;
+  comparisonTimer = window.setTimeout(() => {
+    comparisonTimer = null;
+    const f = store.frames[current];
+    if (f && pinned) post({ type: 'requestComparison', runId: store.runId, step: f.step });
+  }, 150);
+}
+
+function pinCurrent(): void {
+  const f = store.frames[current];
+  if (f) post({ type: 'pin', runId: store.runId, step: f.step });
 }
 
 let profileTimer: number | null = null;
@@ -611,6 +739,13 @@ function renderFindings(): void {
     const label = verdictLabel(v);
     findingsEl.append(h('li', { class: label.tone === 'error' ? 'warn' : 'info', text: `i  ${label.text}: ${v.reason}` }));
   }
+  if (approximates && approximates.runId === store.runId) {
+    for (const w of approximates.warnings) {
+      const r = w.range;
+      findingsEl.append(h('li', { class: w.severity === 'warning' ? 'warn' : 'info' },
+        r ? button(`${w.severity === 'warning' ? '▲' : 'i'}  ${w.message}  → line ${r.start.line}`, `${w.message}; reveal line ${r.start.line}`, () => reveal(r), 'finding') : w.message));
+    }
+  }
   if (store.ended && store.ended.status === 'failed' && store.ended.message) findingsEl.append(h('li', { class: 'warn', text: `the run failed: ${store.ended.message}` }));
   if (!findingsEl.childElementCount) findingsEl.append(h('li', { class: 'info', text: 'no findings' }));
 }
@@ -658,6 +793,191 @@ function renderImpulse(m: ToPreview.Impulse): void {
 
 // ------------------------------------------------------------------------------------------------ charts
 
+// ------------------------------------------------------------------------------------------------ frequency map
+
+const isoChart = new LineChart(chartIso, [{ label: 'error %', colourVar: '--vscode-charts-purple', fallback: '#8a63d2' }], 'direction (degrees)', 120, (v) => fmt(v, 3));
+const ampChart = new LineChart(chartAmp, [{ label: '|G|', colourVar: '--vscode-charts-purple', fallback: '#8a63d2' }], 'θ');
+
+function themeVar(name: string, fallback: string): string {
+  return getComputedStyle(document.body).getPropertyValue(name).trim() || fallback;
+}
+
+/**
+ * Draws the frequency map into its canvas: the |G| picture (θy up), the stable region's edge in the accent colour,
+ * axis ticks at −π, 0, π, and a vertical colour bar with its range and the |G| = 1 mark.
+ */
+function renderSpectrum(): void {
+  const m = spectrum;
+  const ctx = spectrumCanvas.getContext('2d');
+  if (!m || !ctx) return;
+  const cssW = Math.max(180, Math.min(300, Math.floor(spectrumSection.clientWidth || 260)));
+  const bar = 58;
+  const mapW = cssW - bar;
+  const mapH = m.dims === 2 ? mapW : 44;
+  const pad = 14;
+  const cssH = mapH + pad + 4;
+  const dpr = window.devicePixelRatio || 1;
+  spectrumCanvas.width = Math.round(cssW * dpr);
+  spectrumCanvas.height = Math.round(cssH * dpr);
+  spectrumCanvas.style.width = `${cssW}px`;
+  spectrumCanvas.style.height = `${cssH}px`;
+  ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
+  ctx.clearRect(0, 0, cssW, cssH);
+  // The map.
+  const off = document.createElement('canvas');
+  off.width = m.cols;
+  off.height = m.rows;
+  const octx = off.getContext('2d');
+  if (!octx) return;
+  const img = octx.createImageData(m.cols, m.rows);
+  paintSpectrum(img.data, m.amp, m.cols, m.rows, m.lo, m.hi, sequential);
+  octx.putImageData(img, 0, 0);
+  ctx.imageSmoothingEnabled = false;
+  ctx.drawImage(off, 0, 0, m.cols, m.rows, 0, 0, mapW, mapH);
+  // The stable region's edge (|G| = 1).
+  const accent = themeVar('--vscode-focusBorder', '#0a84ff');
+  ctx.strokeStyle = accent;
+  ctx.lineWidth = 2;
+  ctx.beginPath();
+  for (let i = 0; i + 3 < m.edge.length; i += 4) {
+    if (m.dims === 2) {
+      ctx.moveTo(thetaToScreen(m.edge[i], m.cols, mapW), thetaToScreen(m.edge[i + 1], m.rows, mapH, true));
+      ctx.lineTo(thetaToScreen(m.edge[i + 2], m.cols, mapW), thetaToScreen(m.edge[i + 3], m.rows, mapH, true));
+    } else {
+      const x = thetaToScreen(m.edge[i], m.cols, mapW);
+      ctx.moveTo(x, 0);
+      ctx.lineTo(x, mapH);
+    }
+  }
+  ctx.stroke();
+  // Axis ticks.
+  const fg = themeVar('--vscode-foreground', '#888');
+  ctx.fillStyle = fg;
+  ctx.font = `10px ${themeVar('--vscode-font-family', 'sans-serif')}`;
+  ctx.textBaseline = 'top';
+  ctx.textAlign = 'left';
+  ctx.fillText('−π', 0, mapH + 2);
+  ctx.textAlign = 'center';
+  ctx.fillText(m.dims === 2 ? '0   θx' : '0   θ', mapW / 2, mapH + 2);
+  ctx.textAlign = 'right';
+  ctx.fillText('π', mapW, mapH + 2);
+  // The colour bar: lo at the bottom, hi at the top, the |G| = 1 mark where it falls inside.
+  const bx = mapW + 8;
+  const bw = 12;
+  const table = sequential;
+  for (let y = 0; y < mapH; y++) {
+    const k = Math.round((1 - y / Math.max(1, mapH - 1)) * 255) * 3;
+    ctx.fillStyle = `rgb(${table[k]}, ${table[k + 1]}, ${table[k + 2]})`;
+    ctx.fillRect(bx, y, bw, 1);
+  }
+  ctx.strokeStyle = fg;
+  ctx.lineWidth = 1;
+  ctx.strokeRect(bx - 0.5, -0.5 + 0.5, bw + 1, mapH);
+  ctx.fillStyle = fg;
+  ctx.textAlign = 'left';
+  ctx.textBaseline = 'top';
+  ctx.fillText(fmt(m.hi, 3), bx + bw + 3, 0);
+  ctx.textBaseline = 'bottom';
+  ctx.fillText(fmt(m.lo, 3), bx + bw + 3, mapH);
+  if (1 > m.lo && 1 < m.hi) {
+    const y1 = (1 - (1 - m.lo) / (m.hi - m.lo)) * mapH;
+    // The "1" label only where it does not run into the range labels at the ends.
+    const labelled = y1 > 14 && y1 < mapH - 14;
+    ctx.strokeStyle = accent;
+    ctx.lineWidth = 2;
+    ctx.beginPath();
+    ctx.moveTo(bx - 3, y1);
+    ctx.lineTo(bx + bw + 3, y1);
+    ctx.stroke();
+    ctx.textBaseline = 'middle';
+    if (labelled) ctx.fillText('1', bx + bw + 3, y1);
+  }
+  spectrumCanvas.setAttribute('aria-label', `frequency map of |G| from ${fmt(m.lo, 3)} to ${fmt(m.hi, 3)}; ${spectrumText(m)}`);
+  spectrumText_.textContent = `${spectrumText(m)}. ${m.note}`;
+  // Under it: the isotropy error by direction (2-D) or |G| along θ (1-D).
+  if (m.dims === 2 && m.isotropy) {
+    const iso = isotropySeries(m.isotropy);
+    isoBox.hidden = false;
+    chartIso.hidden = false;
+    chartAmp.hidden = true;
+    isoTitle.textContent = `isotropy error by direction at |θ| = ${fmt(m.isotropy.radius, 3)} (%)`;
+    isoChart.set(iso.degrees, [iso.percent]);
+  } else if (m.dims === 1) {
+    isoBox.hidden = false;
+    chartIso.hidden = true;
+    chartAmp.hidden = false;
+    isoTitle.textContent = '|G| along θ';
+    const xs = Array.from({ length: m.cols }, (_, i) => -Math.PI + (2 * Math.PI * i) / Math.max(1, m.cols - 1));
+    ampChart.set(xs, [Array.from(m.amp)]);
+  } else {
+    isoBox.hidden = true;
+  }
+}
+
+// ------------------------------------------------------------------------------------------------ A/B
+
+/** Draws the pinned result, the shown frame and their difference into the three A/B canvases. */
+function renderAB(): void {
+  abSection.hidden = !pinned;
+  pinBtn.textContent = pinned ? 'pin this step instead' : 'pin this step';
+  if (!pinned) return;
+  const p = pinned;
+  abLabel.textContent = `pinned: ${p.label} · ${p.field} · ${p.pinnedAt.replace('T', ' ').slice(0, 19)} UTC`;
+  const f = store.frames[current];
+  const comparable = !!f && f.width === p.width && f.height === p.height && store.started?.width === p.fullWidth && store.started?.height === p.fullHeight;
+  const box = Math.max(80, Math.floor((abSection.clientWidth || 600) / 3) - 16);
+  const pictures: [HTMLCanvasElement, Float32Array | null, 'now' | 'change'][] = [
+    [abCanvases[0].canvas, p.data, 'now'],
+    [abCanvases[1].canvas, f ? f.data : null, 'now'],
+    [abCanvases[2].canvas, comparable && f ? f.data : null, 'change'],
+  ];
+  const scale = comparable && f ? changeScale(f.data, p.data) : 0;
+  for (const [c, data, mode] of pictures) {
+    const w = c === abCanvases[0].canvas ? p.width : f?.width ?? 1;
+    const hh = c === abCanvases[0].canvas ? p.height : f?.height ?? 1;
+    const sc = Math.min(box / w, box / Math.max(1, hh), 8);
+    c.width = Math.max(1, Math.round(w * sc));
+    c.height = Math.max(1, Math.round(Math.max(1, hh) * sc * (hh === 1 ? 16 : 1)));
+    const ctx = c.getContext('2d');
+    if (!ctx) continue;
+    ctx.clearRect(0, 0, c.width, c.height);
+    if (!data) continue;
+    const off2 = document.createElement('canvas');
+    off2.width = w;
+    off2.height = hh;
+    const o = off2.getContext('2d');
+    if (!o) continue;
+    const img = o.createImageData(w, hh);
+    paint(img.data, mode, data, p.data, win, diverging, scale);
+    o.putImageData(img, 0, 0);
+    ctx.imageSmoothingEnabled = false;
+    ctx.drawImage(off2, 0, 0, w, hh, 0, 0, c.width, c.height);
+  }
+  abCanvases[1].caption.textContent = f ? `now (step ${f.step})` : 'now';
+  abCanvases[2].caption.textContent = comparable ? `now − pinned (±${fmt(scale, 3)})` : 'now − pinned: sizes differ';
+  const c = comparison && comparison.runId === store.runId ? comparison : null;
+  abTable.replaceChildren(h('tr', {}, h('th', { text: '' }), h('th', { text: 'pinned' }), h('th', { text: c ? `now (step ${c.step})` : 'now' }), h('th', { text: 'Δ' })));
+  const rows = c ? comparisonRows(c) : comparisonRows({ pinned: p.metrics, current: { psnr: null, ssim: null, tv: null }, delta: { psnr: null, ssim: null, tv: null } });
+  for (const r of rows) {
+    const d = h('td', { text: r.delta });
+    if (r.better !== null) d.dataset.better = String(r.better);
+    abTable.append(h('tr', {}, h('th', { text: r.metric }), h('td', { text: r.pinned }), h('td', { text: r.now }), d));
+  }
+  abBetween.textContent = c ? betweenText(c) : 'measuring…';
+}
+
+// ------------------------------------------------------------------------------------------------ modified equation
+
+function renderApprox(): void {
+  const a = approximates;
+  if (!a || a.runId !== store.runId) return;
+  approxEl.hidden = false;
+  approxEl.textContent = a.text;
+  // Two lines at most on the page; the whole summary and the details per field in the tooltip.
+  approxEl.title = [a.text, ...a.details].join('\n');
+  renderFindings();
+}
+
 const rangeChart = new LineChart(chartRange, [
   { label: 'min', colourVar: '--vscode-charts-blue', fallback: '#3b7ddd' },
   { label: 'max', colourVar: '--vscode-charts-red', fallback: '#d9534f' },
@@ -668,6 +988,18 @@ const rowChart = new LineChart(chartRow, [
   { label: 'start', colourVar: '--vscode-charts-foreground', fallback: '#888', dash: [3, 3], width: 1 },
   { label: 'now', colourVar: '--vscode-charts-orange', fallback: '#d98c1f' },
 ], 'x');
+
+const axisNumber = (v: number) => fmt(v, 3);
+const measureCharts = {
+  tv: new LineChart(measureBoxes.tv.el, [{ label: 'TV', colourVar: '--vscode-charts-blue', fallback: '#3b7ddd' }], 'step', 120, axisNumber),
+  energy: new LineChart(measureBoxes.energy.el, [{ label: 'energy', colourVar: '--vscode-charts-orange', fallback: '#d98c1f' }], 'step', 120, axisNumber),
+  change: new LineChart(measureBoxes.change.el, [
+    { label: 'RMS', colourVar: '--vscode-charts-green', fallback: '#3c9d5d' },
+    { label: 'max', colourVar: '--vscode-charts-red', fallback: '#d9534f', dash: [4, 3] },
+  ], 'step', 120, axisNumber),
+  drift: new LineChart(measureBoxes.drift.el, [{ label: 'drift', colourVar: '--vscode-charts-purple', fallback: '#8a63d2' }], 'step', 120, axisNumber),
+};
+const allCharts = (): LineChart[] => [rangeChart, psnrChart, rowChart, isoChart, ampChart, ...Object.values(measureCharts)];
 
 let chartsQueued = false;
 function scheduleCharts(): void {
@@ -692,6 +1024,14 @@ function renderCharts(): void {
     psnrTitle.textContent = ser.best ? `PSNR against clean · best at step ${ser.best.step} (${fmt(ser.best.psnr, 4)} dB)` : 'PSNR against clean';
     psnrChart.set(ser.steps, [ser.psnr], ser.best ? [cur, { x: ser.best.step, colourVar: '--vscode-charts-green', fallback: '#3c9d5d' }] : [cur]);
   }
+  const ms = measureSeriesOf(store.frames);
+  for (const k of Object.keys(measureBoxes) as (keyof typeof measureBoxes)[]) measureBoxes[k].box.hidden = !ms;
+  if (ms) {
+    measureCharts.tv.set(ms.steps, [ms.tv], [cur]);
+    measureCharts.energy.set(ms.steps, [ms.energy], [cur]);
+    measureCharts.change.set(ms.steps, [ms.changeRms, ms.changeMax], [cur]);
+    measureCharts.drift.set(ms.steps, [ms.drift], [cur]);
+  }
   if (profile && profile.runId === store.runId) {
     rowTitle.textContent = `row ${profile.row}: start and step ${profile.step}`;
     const xs = Array.from({ length: profile.before.length }, (_, i) => i);
@@ -715,6 +1055,12 @@ function mark(): void {
   b.fitValues = fit?.values ? JSON.stringify(fit.values) : '';
   b.knobs = JSON.stringify(knobValues);
   b.derivative = store.frames[current]?.wrt ?? '';
+  b.spectrum = spectrum && spectrum.runId === store.runId ? `${spectrum.cols}x${spectrum.rows}` : '';
+  b.influence = influence && influence.runId === store.runId ? `${influence.x},${influence.y},${influence.step}` : '';
+  b.pinned = pinned ? String(pinned.step) : '';
+  b.comparison = comparison && comparison.runId === store.runId ? String(comparison.step) : '';
+  b.approximates = approximates && approximates.runId === store.runId ? approximates.text : '';
+  b.measures = String(store.frames.filter((x) => x.measures).length);
   // The shown frame's mean as sent by the host and as held by the page, and the first frame's (cheap checks that the
   // page draws what the host sent; computed once the run has ended).
   const f = store.frames[current];
@@ -795,6 +1141,8 @@ function handleMessage(msg: ToPreview.Type): void {
         post({ type: 'requestProfile', runId: store.runId, step, row: state.row ?? state.picked?.y ?? Math.floor(store.started.height / 2) });
       }
       if (msg.status === 'failed') showNotice(`The run failed: ${msg.message ?? 'unknown error'}`, 'error');
+      requestComparisonSoon();
+      requestInfluenceSoon();
       renderFindings();
       scheduleCharts();
       return;
@@ -834,6 +1182,34 @@ function handleMessage(msg: ToPreview.Type): void {
       return;
     case 'notice':
       showNotice(msg.text, msg.level);
+      return;
+    case 'spectrum':
+      if (msg.runId !== store.runId) return;
+      spectrum = msg;
+      renderSpectrum();
+      return;
+    case 'influence':
+      if (msg.runId !== store.runId) return;
+      influence = msg;
+      readout.textContent = influenceText(msg);
+      updateLegend();
+      draw();
+      return;
+    case 'approximates':
+      if (msg.runId !== store.runId) return;
+      approximates = msg;
+      renderApprox();
+      return;
+    case 'baseline':
+      pinned = msg.pinned;
+      comparison = null;
+      renderAB();
+      requestComparisonSoon();
+      return;
+    case 'comparison':
+      if (msg.runId !== store.runId) return;
+      comparison = msg;
+      renderAB();
       return;
     case 'fit':
       if (fit && msg.fitId < fit.fitId) return;
@@ -885,9 +1261,9 @@ document.addEventListener('keydown', (e) => {
 new ResizeObserver(() => {
   if (fitted) fitView();
   draw();
-  rangeChart.resize();
-  psnrChart.resize();
-  rowChart.resize();
+  for (const c of allCharts()) c.resize();
+  renderSpectrum();
+  renderAB();
 }).observe(stage);
 
 // Theme changes swap the body class: recompute the change map's middle and the chart colours.
@@ -895,9 +1271,9 @@ new MutationObserver(() => {
   diverging = divergingTable(isDark());
   updateLegend();
   draw();
-  rangeChart.refresh();
-  psnrChart.refresh();
-  rowChart.refresh();
+  for (const c of allCharts()) c.refresh();
+  renderSpectrum();
+  renderAB();
   if (weights) renderWeights(weights);
 }).observe(document.body, { attributes: true, attributeFilter: ['class'] });
 

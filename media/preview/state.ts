@@ -28,7 +28,7 @@ const nat = (v: unknown): v is number => fin(v) && Number.isInteger(v) && v >= 0
 export function restoreState(raw: unknown, source: string): UiState {
   const s = initialState(source);
   if (!isObj(raw) || raw.version !== 1 || raw.source !== source) return s;
-  const view = raw.view === 'now' || raw.view === 'start' || raw.view === 'change' ? raw.view : s.view;
+  const view = raw.view === 'now' || raw.view === 'start' || raw.view === 'change' || raw.view === 'influence' ? raw.view : s.view;
   const step = fin(raw.step) && Number.isInteger(raw.step) && raw.step >= -1 ? raw.step : s.step;
   const z = raw.zoom;
   const zoom = isObj(z) && fin(z.scale) && z.scale > 0 && fin(z.offsetX) && fin(z.offsetY) ? { scale: z.scale, offsetX: z.offsetX, offsetY: z.offsetY } : null;

@@ -3,9 +3,10 @@
 // Imports only the shared protocol; never the engine, the analysis, the notation or the images code.
 
 import type { KnobSpec, ToPreview, WireFinding, WireVerdict } from '../../src/protocol/preview';
-import { divergingIndex, greyByte } from './colour';
+import { divergingIndex, greyByte, sequentialIndex } from './colour';
 
-export type ViewMode = 'now' | 'start' | 'change';
+/** What the picture shows: the field now, at the start, their change, or the influence map of the picked pixel. */
+export type ViewMode = 'now' | 'start' | 'change' | 'influence';
 
 // ------------------------------------------------------------------------------------------------ frames
 
@@ -341,6 +342,7 @@ export function keyAction(key: string): KeyAction | null {
     case 'n': return { kind: 'view', mode: 'now' };
     case 's': return { kind: 'view', mode: 'start' };
     case 'c': return { kind: 'view', mode: 'change' };
+    case 'i': return { kind: 'view', mode: 'influence' };
     case ' ': case 'p': return { kind: 'play' };
     case 'ArrowRight': case '.': return { kind: 'step', by: 1 };
     case 'ArrowLeft': case ',': return { kind: 'step', by: -1 };
@@ -373,4 +375,140 @@ export function fitText(msg: ToPreview.Fit): string {
       return `fit: ${values} · best step ${msg.step ?? '?'}${best}${noisy} · ${msg.evaluations} runs`;
     }
   }
+}
+
+// ------------------------------------------------------------------------------------------------ frequency map
+
+/**
+ * RGBA bytes of the frequency map: |G| of each grid cell through the sequential table over [lo, hi]; non-finite
+ * values in the `bad` colour. Rows are flipped so θy grows upwards on screen (row 0 of the grid is θy = −π).
+ */
+export function paintSpectrum(out: Uint8ClampedArray, amp: Float32Array, cols: number, rows: number, lo: number, hi: number, table: Uint8Array, bad: readonly [number, number, number] = [255, 0, 255]): void {
+  for (let j = 0; j < rows; j++) {
+    const src = (rows - 1 - j) * cols;
+    for (let i = 0; i < cols; i++) {
+      const v = amp[src + i];
+      const o = (j * cols + i) * 4;
+      if (!Number.isFinite(v)) {
+        out[o] = bad[0]; out[o + 1] = bad[1]; out[o + 2] = bad[2]; out[o + 3] = 255;
+        continue;
+      }
+      const k = sequentialIndex(v, lo, hi) * 3;
+      out[o] = table[k]; out[o + 1] = table[k + 1]; out[o + 2] = table[k + 2]; out[o + 3] = 255;
+    }
+  }
+}
+
+/**
+ * Screen position of a frequency θ on a map drawn `cells` cells over `size` pixels: grid point i (θ = −π + 2π·i/(cells − 1))
+ * is the centre of cell i. `flip` maps θy (upwards) to screen rows (downwards).
+ */
+export function thetaToScreen(theta: number, cells: number, size: number, flip = false): number {
+  const i = cells > 1 ? ((theta + Math.PI) / (2 * Math.PI)) * (cells - 1) : 0;
+  const c = flip ? cells - 1 - i : i;
+  return ((c + 0.5) / cells) * size;
+}
+
+/** The line under the frequency map: its largest |G| and where. */
+export function spectrumText(m: Pick<ToPreview.Spectrum, 'peak' | 'dims'>): string {
+  const th = m.peak.theta.map((t) => fmtAngle(t)).join(', ');
+  return `largest |G| ${fmt(m.peak.value, 5)} at θ = ${m.dims === 2 ? `(${th})` : th}`;
+}
+
+/** An angle in radians as a multiple of π where it is one of the common ones, else in radians. */
+export function fmtAngle(t: number): string {
+  const q = t / Math.PI;
+  for (const [v, s] of [[0, '0'], [1, 'π'], [-1, '−π'], [0.5, 'π/2'], [-0.5, '−π/2'], [0.25, 'π/4'], [-0.25, '−π/4'], [0.75, '3π/4'], [-0.75, '−3π/4']] as const) {
+    if (Math.abs(q - v) < 1e-9) return s;
+  }
+  return fmt(t, 3);
+}
+
+/** The isotropy curve for a chart: angles in degrees, errors in percent. */
+export function isotropySeries(iso: NonNullable<ToPreview.Spectrum['isotropy']>): { degrees: number[]; percent: number[] } {
+  return { degrees: iso.angles.map((a) => (a * 180) / Math.PI), percent: iso.error.map((e) => e * 100) };
+}
+
+// ------------------------------------------------------------------------------------------------ influence map
+
+/**
+ * RGBA bytes of an influence map over its window: each weight through the diverging table at scale `peak`, with an
+ * opacity that grows with |weight| / peak (square root, so weak but real influence stays visible), transparent at 0.
+ */
+export function paintInfluence(out: Uint8ClampedArray, data: Float32Array, peak: number, table: Uint8Array): void {
+  for (let i = 0; i < data.length; i++) {
+    const v = data[i];
+    const o = i * 4;
+    if (!Number.isFinite(v)) {
+      out[o] = 255; out[o + 1] = 0; out[o + 2] = 255; out[o + 3] = 255;
+      continue;
+    }
+    const k = divergingIndex(v, peak) * 3;
+    out[o] = table[k]; out[o + 1] = table[k + 1]; out[o + 2] = table[k + 2];
+    out[o + 3] = peak > 0 ? Math.round(255 * Math.min(1, Math.sqrt(Math.abs(v) / peak))) : 0;
+  }
+}
+
+/** The influence map's caption: whose influence, over how many steps, and the scale. */
+export function influenceText(m: Pick<ToPreview.Influence, 'x' | 'y' | 'step' | 'steps' | 'sum' | 'peak' | 'field'>): string {
+  return `influence of the input on ${m.field} at (${m.x}, ${m.y}), step ${m.step} (${m.steps} step${m.steps === 1 ? '' : 's'}): sum ${fmt(m.sum, 4)}, largest ${fmt(m.peak, 3)}`;
+}
+
+// ------------------------------------------------------------------------------------------------ per-step measures
+
+export interface MeasureSeries {
+  readonly steps: number[];
+  readonly drift: (number | null)[];
+  readonly tv: (number | null)[];
+  readonly energy: (number | null)[];
+  readonly changeRms: (number | null)[];
+  readonly changeMax: (number | null)[];
+}
+
+/** Chart series of the per-step measures; null when no frame carries them. Non-finite values become gaps. */
+export function measureSeriesOf(frames: readonly ToPreview.Frame[]): MeasureSeries | null {
+  if (!frames.some((f) => f.measures)) return null;
+  const pick = (k: keyof NonNullable<ToPreview.Frame['measures']>) => frames.map((f) => {
+    const v = f.measures?.[k];
+    return typeof v === 'number' && Number.isFinite(v) ? v : null;
+  });
+  return { steps: frames.map((f) => f.step), drift: pick('drift'), tv: pick('tv'), energy: pick('energy'), changeRms: pick('changeRms'), changeMax: pick('changeMax') };
+}
+
+// ------------------------------------------------------------------------------------------------ A/B comparison
+
+export interface ComparisonRow {
+  readonly metric: string;
+  readonly pinned: string;
+  readonly now: string;
+  readonly delta: string;
+  /** Whether the change is for the better (PSNR, SSIM up; TV is neither), or null. */
+  readonly better: boolean | null;
+}
+
+const signed = (v: number, digits: number) => (v > 0 ? `+${fmt(v, digits)}` : fmt(v, digits));
+
+/** The A/B table: PSNR and SSIM against the clean reference (when there is one) and TV, pinned · now · Δ. */
+export function comparisonRows(c: Pick<ToPreview.Comparison, 'pinned' | 'current' | 'delta'>): ComparisonRow[] {
+  const show = (v: number | null, digits: number, unit = '') => (v === null ? '–' : `${fmt(v, digits)}${unit}`);
+  const rows: ComparisonRow[] = [];
+  const add = (metric: string, k: 'psnr' | 'ssim' | 'tv', digits: number, unit: string, up: boolean | null) => {
+    const d = c.delta[k];
+    rows.push({
+      metric, pinned: show(c.pinned[k], digits, unit), now: show(c.current[k], digits, unit),
+      delta: d === null || Number.isNaN(d) ? '–' : `${signed(d, digits)}${unit}`,
+      better: d === null || d === 0 || Number.isNaN(d) || up === null ? null : up ? d > 0 : d < 0,
+    });
+  };
+  add('PSNR', 'psnr', 4, ' dB', true);
+  add('SSIM', 'ssim', 4, '', true);
+  add('TV', 'tv', 5, '', null);
+  return rows;
+}
+
+/** The line under the A/B pictures: how far the current result is from the pinned one. */
+export function betweenText(c: Pick<ToPreview.Comparison, 'between' | 'note' | 'step'>): string {
+  if (!c.between) return c.note ?? 'not comparable';
+  const ssim = Number.isNaN(c.between.ssim) ? 'SSIM n/a (smaller than its 11×11 window)' : `SSIM ${fmt(c.between.ssim, 4)}`;
+  return `now (step ${c.step}) against pinned: PSNR ${fmt(c.between.psnr, 4)} dB, ${ssim}`;
 }

@@ -72,6 +72,43 @@ export interface WireStats {
   readonly mean: number;
 }
 
+/**
+ * Per-step measures of the shown field at a recorded step (numerics.md "Metrics"): mean drift (mean minus the
+ * initial mean), isotropic total variation, Dirichlet energy, and the change of the last step ‖uⁿ⁺¹ − uⁿ‖ as RMS and
+ * max. null where the engine did not report a measure.
+ */
+export interface WireMeasures {
+  readonly drift: number | null;
+  readonly tv: number | null;
+  readonly energy: number | null;
+  readonly changeRms: number | null;
+  readonly changeMax: number | null;
+}
+
+/** The metrics of one side of an A/B comparison: against the clean reference (null without one) and its TV. */
+export interface WireSideMetrics {
+  readonly psnr: number | null;
+  readonly ssim: number | null;
+  readonly tv: number | null;
+}
+
+/** A pinned result (the "A" of an A/B comparison) as the page draws it: frame-sized, with what it was run with. */
+export interface WirePinned {
+  readonly label: string;
+  readonly step: number;
+  readonly t: number;
+  readonly field: string;
+  /** Full-resolution size of the pinned state (a comparison needs the same size now). */
+  readonly fullWidth: number;
+  readonly fullHeight: number;
+  readonly width: number;
+  readonly height: number;
+  readonly data: Float32Array;
+  readonly metrics: WireSideMetrics;
+  /** When it was pinned (ISO 8601), shown beside the label. */
+  readonly pinnedAt: string;
+}
+
 export namespace ToPreview {
   interface Base { readonly source: string }
 
@@ -125,6 +162,8 @@ export namespace ToPreview {
     readonly colour?: { readonly red: Float32Array; readonly green: Float32Array; readonly blue: Float32Array };
     /** Present when the frame is the derivative ∂field/∂wrt (the engine's sensitivity mode), not the field's values. */
     readonly wrt?: string;
+    /** Per-step measures of this field at this step, when the engine reports them. */
+    readonly measures?: WireMeasures;
   }
   export interface Finding extends Base { readonly type: 'finding'; readonly runId: number; readonly finding: WireFinding }
   export interface RunEnded extends Base {
@@ -200,7 +239,78 @@ export namespace ToPreview {
     readonly noisy: number | null;
     readonly message: string | null;
   }
-  export type Type = Scheme | RunStarted | Frame | Finding | RunEnded | Verdict | Problems | Weights | Impulse | Profile | Notice | Fit;
+  /**
+   * The frequency map of the scheme for the knob values of run `runId`: |G(θ)| on a `cols` × `rows` grid over
+   * θx, θy ∈ [−π, π], both ends included (amp[j·cols + i] sits at θx = −π + 2π·i/(cols − 1), θy = −π + 2π·j/(rows − 1);
+   * 1-D schemes have one row), the colour bar's range, the stable region's edge as line segments in θ
+   * (x0, y0, x1, y1, ...), and the isotropy error by direction.
+   */
+  export interface Spectrum extends Base {
+    readonly type: 'spectrum';
+    readonly runId: number;
+    readonly dims: 1 | 2;
+    readonly cols: number;
+    readonly rows: number;
+    readonly amp: Float32Array;
+    readonly lo: number;
+    readonly hi: number;
+    readonly edge: readonly number[];
+    /** The largest |G| and where (θ). */
+    readonly peak: { readonly value: number; readonly theta: readonly number[] };
+    /** Relative error of the discrete operator's symbol against the continuous one along |θ| = radius, by angle (radians). */
+    readonly isotropy: { readonly radius: number; readonly angles: readonly number[]; readonly error: readonly number[] } | null;
+    /** One sentence about the map (what the field is, or why part of it is missing). */
+    readonly note: string;
+  }
+  /**
+   * The influence map of pixel (x, y) at `step`: how much each input pixel (step 0) moves it, i.e. its row of the
+   * product of the `steps` frozen-weight matrices, over the full-resolution window x0..x0+width, y0..y0+height.
+   */
+  export interface Influence extends Base {
+    readonly type: 'influence';
+    readonly runId: number;
+    readonly step: number;
+    readonly x: number;
+    readonly y: number;
+    readonly steps: number;
+    readonly field: string;
+    readonly x0: number;
+    readonly y0: number;
+    readonly width: number;
+    readonly height: number;
+    readonly data: Float32Array;
+    readonly sum: number;
+    /** Largest |weight| (the overlay's scale). */
+    readonly peak: number;
+    readonly note: string | null;
+  }
+  /** What the scheme approximates (modified equation) for the knob values of run `runId`, in words. */
+  export interface Approximates extends Base {
+    readonly type: 'approximates';
+    readonly runId: number;
+    readonly text: string;
+    readonly details: readonly string[];
+    readonly warnings: readonly { readonly severity: 'warning' | 'info'; readonly message: string; readonly range: WireRange | null }[];
+  }
+  /** The pinned result (A/B), or null once unpinned. Survives edits, reruns and re-showing the panel. */
+  export interface Baseline extends Base { readonly type: 'baseline'; readonly pinned: WirePinned | null }
+  /** The pinned result against the current run at `step`: metrics of both sides and how far apart they are. */
+  export interface Comparison extends Base {
+    readonly type: 'comparison';
+    readonly runId: number;
+    readonly step: number;
+    /** False when the sizes differ (then only the side-by-side view is meaningful); `note` says why. */
+    readonly comparable: boolean;
+    readonly note: string | null;
+    readonly pinned: WireSideMetrics;
+    readonly current: WireSideMetrics;
+    /** current − pinned, metric by metric (null where either side has none). */
+    readonly delta: WireSideMetrics;
+    /** PSNR and SSIM of the current result against the pinned one (null when not comparable). */
+    readonly between: { readonly psnr: number; readonly ssim: number } | null;
+  }
+  export type Type = Scheme | RunStarted | Frame | Finding | RunEnded | Verdict | Problems | Weights | Impulse | Profile | Notice | Fit
+    | Spectrum | Influence | Approximates | Baseline | Comparison;
 }
 
 export namespace FromPreview {
@@ -228,7 +338,15 @@ export namespace FromPreview {
   export interface FitKnobs extends Base { readonly type: 'fitKnobs'; readonly names?: readonly string[] }
   /** Show the derivative of the shown field with respect to a knob or `dt` (computed in the engine worker), or the values (null). */
   export interface ShowDerivative extends Base { readonly type: 'showDerivative'; readonly name: string | null }
-  export type Type = Ready | SetKnobs | WriteKnobs | SetInput | ChooseImage | ShowField | PickPixel | RequestProfile | Reveal | Rerun | FitKnobs | SetNamedInput | ChooseNamedImage | ShowDerivative;
+  /** Pins the current run's shown field at `step` as the baseline of an A/B comparison (replacing an older pin). */
+  export interface Pin extends Base { readonly type: 'pin'; readonly runId: number; readonly step: number }
+  export interface Unpin extends Base { readonly type: 'unpin' }
+  /** Asks for the pinned result against the current run at `step` (ToPreview.Comparison). */
+  export interface RequestComparison extends Base { readonly type: 'requestComparison'; readonly runId: number; readonly step: number }
+  /** Asks for the influence map of pixel (x, y) at `step` (full-resolution coordinates) over the steps from the input. */
+  export interface RequestInfluence extends Base { readonly type: 'requestInfluence'; readonly runId: number; readonly step: number; readonly x: number; readonly y: number }
+  export type Type = Ready | SetKnobs | WriteKnobs | SetInput | ChooseImage | ShowField | PickPixel | RequestProfile | Reveal | Rerun | FitKnobs
+    | SetNamedInput | ChooseNamedImage | ShowDerivative | Pin | Unpin | RequestComparison | RequestInfluence;
 }
 
 // ------------------------------------------------------------------------------------------------ validation
@@ -323,7 +441,7 @@ export function validateFromPreview(raw: unknown): FromPreview.Type | null {
   if (!isObj(raw) || !str(raw.source, 4096) || typeof raw.type !== 'string') return null;
   const source = raw.source;
   switch (raw.type) {
-    case 'ready': case 'chooseImage': case 'rerun':
+    case 'ready': case 'chooseImage': case 'rerun': case 'unpin':
       return { type: raw.type, source };
     case 'setKnobs': case 'writeKnobs': {
       const values = knobValues(raw.values);
@@ -352,6 +470,12 @@ export function validateFromPreview(raw: unknown): FromPreview.Type | null {
       const r = range(raw.range);
       return r ? { type: 'reveal', source, range: r } : null;
     }
+    case 'pin': case 'requestComparison':
+      if (!int(raw.runId) || !int(raw.step)) return null;
+      return { type: raw.type, source, runId: raw.runId, step: raw.step };
+    case 'requestInfluence':
+      if (!int(raw.runId) || !int(raw.step) || !int(raw.x) || !int(raw.y)) return null;
+      return { type: 'requestInfluence', source, runId: raw.runId, step: raw.step, x: raw.x, y: raw.y };
     case 'fitKnobs': {
       if (raw.names === undefined) return { type: 'fitKnobs', source };
       if (!Array.isArray(raw.names) || raw.names.length === 0 || raw.names.length > 200 || !raw.names.every(name)) return null;
@@ -388,6 +512,36 @@ function finding(v: unknown): WireFinding | null {
 
 const statsOf = (v: unknown): WireStats | null =>
   isObj(v) && typeof v.min === 'number' && typeof v.max === 'number' && typeof v.mean === 'number' ? { min: v.min, max: v.max, mean: v.mean } : null;
+
+const numOrNullish = (v: unknown): v is number | null => v === null || typeof v === 'number';
+
+/** Measures may be NaN or infinite (a blow-up is shown, not hidden), or null when not reported. */
+function measures(v: unknown): WireMeasures | null {
+  if (!isObj(v)) return null;
+  const keys = ['drift', 'tv', 'energy', 'changeRms', 'changeMax'] as const;
+  if (!keys.every((k) => numOrNullish(v[k]))) return null;
+  return { drift: v.drift as number | null, tv: v.tv as number | null, energy: v.energy as number | null, changeRms: v.changeRms as number | null, changeMax: v.changeMax as number | null };
+}
+
+function sideMetrics(v: unknown): WireSideMetrics | null {
+  if (!isObj(v) || !numOrNullish(v.psnr) || !numOrNullish(v.ssim) || !numOrNullish(v.tv)) return null;
+  return { psnr: v.psnr, ssim: v.ssim, tv: v.tv };
+}
+
+function pinned(v: unknown): WirePinned | null {
+  if (!isObj(v) || !str(v.label, 4096) || !int(v.step) || !num(v.t) || !str(v.field, 200) || !int(v.fullWidth, 1) || !int(v.fullHeight, 1)) return null;
+  if (!int(v.width, 1) || !int(v.height, 1) || !str(v.pinnedAt, 100)) return null;
+  const data = floats(v.data, v.width * v.height);
+  const metrics = sideMetrics(v.metrics);
+  if (!data || !metrics) return null;
+  return {
+    label: v.label, step: v.step, t: v.t, field: v.field, fullWidth: v.fullWidth, fullHeight: v.fullHeight, width: v.width, height: v.height,
+    data, metrics, pinnedAt: v.pinnedAt,
+  };
+}
+
+/** Largest frequency-map grid side the page accepts. */
+export const MAX_SPECTRUM_SIDE = 1024;
 
 /** Checks a message the host sent (the webview's side of "validated on receipt"); null means "ignore it". */
 export function validateToPreview(raw: unknown): ToPreview.Type | null {
@@ -437,6 +591,8 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
       const data = floats(raw.data, raw.width * raw.height);
       const stats = statsOf(raw.stats);
       if (!data || !stats || !(raw.psnr === null || typeof raw.psnr === 'number')) return null;
+      const m = raw.measures === undefined ? undefined : measures(raw.measures);
+      if (m === null) return null;
       if (raw.wrt !== undefined && !name(raw.wrt)) return null;
       let colour: ToPreview.Frame['colour'];
       if (raw.colour !== undefined) {
@@ -450,6 +606,7 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
         type: 'frame', source, runId: raw.runId, field: raw.field, step: raw.step, t: raw.t, width: raw.width, height: raw.height, data, stats, psnr: raw.psnr,
         ...(colour ? { colour } : {}),
         ...(raw.wrt !== undefined ? { wrt: raw.wrt as string } : {}),
+        ...(m ? { measures: m } : {}),
       };
     }
     case 'finding': {
@@ -512,6 +669,65 @@ export function validateToPreview(raw: unknown): ToPreview.Type | null {
     case 'notice':
       if ((raw.level !== 'info' && raw.level !== 'error') || !str(raw.text, 10_000)) return null;
       return { type: 'notice', source, level: raw.level, text: raw.text };
+    case 'spectrum': {
+      if (!int(raw.runId) || (raw.dims !== 1 && raw.dims !== 2) || !int(raw.cols, 1) || !int(raw.rows, 1)) return null;
+      if (raw.cols > MAX_SPECTRUM_SIDE || raw.rows > MAX_SPECTRUM_SIDE || (raw.dims === 1 && raw.rows !== 1)) return null;
+      const amp = floats(raw.amp, raw.cols * raw.rows);
+      if (!amp || !num(raw.lo) || !num(raw.hi) || !(raw.hi > raw.lo) || !str(raw.note, 10_000)) return null;
+      if (!Array.isArray(raw.edge) || raw.edge.length % 4 !== 0 || raw.edge.length > 4 * 65536 || !raw.edge.every(num)) return null;
+      if (!isObj(raw.peak) || typeof raw.peak.value !== 'number' || !Array.isArray(raw.peak.theta) || !raw.peak.theta.every(num)) return null;
+      let isotropy: ToPreview.Spectrum['isotropy'] = null;
+      if (raw.isotropy !== null) {
+        const iso = raw.isotropy;
+        if (!isObj(iso) || !num(iso.radius) || !Array.isArray(iso.angles) || !Array.isArray(iso.error) || iso.angles.length !== iso.error.length) return null;
+        if (iso.angles.length > 4096 || !iso.angles.every(num) || !iso.error.every((e) => typeof e === 'number')) return null;
+        isotropy = { radius: iso.radius, angles: iso.angles as number[], error: iso.error as number[] };
+      }
+      return {
+        type: 'spectrum', source, runId: raw.runId, dims: raw.dims, cols: raw.cols, rows: raw.rows, amp, lo: raw.lo, hi: raw.hi, edge: raw.edge as number[],
+        peak: { value: raw.peak.value, theta: raw.peak.theta as number[] }, isotropy, note: raw.note,
+      };
+    }
+    case 'influence': {
+      if (!int(raw.runId) || !int(raw.step) || !int(raw.x) || !int(raw.y) || !int(raw.steps) || !str(raw.field, 200)) return null;
+      if (!int(raw.x0) || !int(raw.y0) || !int(raw.width, 1) || !int(raw.height, 1)) return null;
+      const data = floats(raw.data, raw.width * raw.height);
+      if (!data || typeof raw.sum !== 'number' || !num(raw.peak) || raw.peak < 0 || !(raw.note === null || str(raw.note, 10_000))) return null;
+      return {
+        type: 'influence', source, runId: raw.runId, step: raw.step, x: raw.x, y: raw.y, steps: raw.steps, field: raw.field,
+        x0: raw.x0, y0: raw.y0, width: raw.width, height: raw.height, data, sum: raw.sum, peak: raw.peak, note: raw.note,
+      };
+    }
+    case 'approximates': {
+      if (!int(raw.runId) || !str(raw.text, 10_000) || !Array.isArray(raw.details) || raw.details.length > 100 || !raw.details.every((d) => str(d, 10_000))) return null;
+      if (!Array.isArray(raw.warnings) || raw.warnings.length > 100) return null;
+      const warnings: { severity: 'warning' | 'info'; message: string; range: WireRange | null }[] = [];
+      for (const w of raw.warnings) {
+        if (!isObj(w) || (w.severity !== 'warning' && w.severity !== 'info') || !str(w.message, 10_000)) return null;
+        const r = w.range === null ? null : range(w.range);
+        if (w.range !== null && !r) return null;
+        warnings.push({ severity: w.severity, message: w.message, range: r });
+      }
+      return { type: 'approximates', source, runId: raw.runId, text: raw.text, details: raw.details as string[], warnings };
+    }
+    case 'baseline': {
+      if (raw.pinned === null) return { type: 'baseline', source, pinned: null };
+      const p = pinned(raw.pinned);
+      return p ? { type: 'baseline', source, pinned: p } : null;
+    }
+    case 'comparison': {
+      if (!int(raw.runId) || !int(raw.step) || typeof raw.comparable !== 'boolean' || !(raw.note === null || str(raw.note, 10_000))) return null;
+      const a = sideMetrics(raw.pinned);
+      const b = sideMetrics(raw.current);
+      const d = sideMetrics(raw.delta);
+      if (!a || !b || !d) return null;
+      let between: ToPreview.Comparison['between'] = null;
+      if (raw.between !== null) {
+        if (!isObj(raw.between) || typeof raw.between.psnr !== 'number' || typeof raw.between.ssim !== 'number') return null;
+        between = { psnr: raw.between.psnr, ssim: raw.between.ssim };
+      }
+      return { type: 'comparison', source, runId: raw.runId, step: raw.step, comparable: raw.comparable, note: raw.note, pinned: a, current: b, delta: d, between };
+    }
     default:
       return null;
   }

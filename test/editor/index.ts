@@ -9,6 +9,7 @@ import * as vscode from 'vscode';
 import { info, poll, probe, runAll, test } from './harness';
 import { heatScheme, workspaceFile } from './workspace';
 import './preview';
+import './why';
 import './export';
 
 const EXTENSION_ID = 'fluxel-dev.fluxel';

@@ -185,6 +185,147 @@ export async function liveRunProbe(page, extra, outDir) {
       const panel = box ? pngStats(await page.screenshot({ clip: box })) : { colours: 0, width: 0, height: 0 };
       return { path, page: pngStats(buf), panel };
     }
+    case 'spectrum': {
+      // The frequency map of the finished run: distinct colours in the map part of its canvas, a colour bar whose
+      // colour changes from top to bottom, and pixels of the accent (the stable region's edge) inside the map.
+      await pollFor(page, 'a finished run with its frequency map', async () => {
+        const x = await facts(f);
+        return x.status !== 'running' && x.status !== 'idle' && x.spectrum ? x : null;
+      });
+      const canvas = f.locator('canvas.spectrum');
+      await canvas.scrollIntoViewIfNeeded();
+      const px = await f.evaluate(() => {
+        const c = document.querySelector('canvas.spectrum');
+        const dpr = window.devicePixelRatio || 1;
+        const { data } = c.getContext('2d').getImageData(0, 0, c.width, c.height);
+        const cssW = c.width / dpr;
+        const mapW = Math.round((cssW - 58) * dpr);
+        const mapH = Math.round(Math.min(mapW, c.height - 18 * dpr));
+        const accent = getComputedStyle(document.body).getPropertyValue('--vscode-focusBorder').trim();
+        const probeEl = document.createElement('span');
+        probeEl.style.color = accent || '#0a84ff';
+        document.body.append(probeEl);
+        const [ar, ag, ab] = getComputedStyle(probeEl).color.match(/\d+/g).map(Number);
+        probeEl.remove();
+        const map = new Set();
+        let edge = 0;
+        for (let y = 0; y < mapH; y++) for (let x = 0; x < mapW; x++) {
+          const i = (y * c.width + x) * 4;
+          map.add((data[i] << 16) | (data[i + 1] << 8) | data[i + 2]);
+          if (Math.abs(data[i] - ar) + Math.abs(data[i + 1] - ag) + Math.abs(data[i + 2] - ab) < 40) edge++;
+        }
+        const bx = Math.round((cssW - 58 + 8 + 6) * dpr);
+        const bar = new Set();
+        for (let y = 2; y < mapH - 2; y++) {
+          const i = (y * c.width + bx) * 4;
+          bar.add((data[i] << 16) | (data[i + 1] << 8) | data[i + 2]);
+        }
+        const top = (2 * c.width + bx) * 4;
+        const bottom = ((mapH - 3) * c.width + bx) * 4;
+        return {
+          width: c.width, height: c.height, mapColours: map.size, edgePixels: edge, barColours: bar.size,
+          barContrast: Math.abs(data[top] - data[bottom]) + Math.abs(data[top + 1] - data[bottom + 1]) + Math.abs(data[top + 2] - data[bottom + 2]),
+          text: document.querySelector('.spectrum-text').textContent, iso: !document.querySelector('canvas.spectrum').closest('section').querySelector('figure').hidden,
+          approximates: document.body.dataset.approximates,
+        };
+      });
+      let shot = null;
+      if (req.name) {
+        const path = join(outDir, `${req.name}.png`);
+        const box = await page.locator('iframe.webview.ready').last().boundingBox();
+        const buf = await page.screenshot({ path, ...(box ? { clip: box } : {}) });
+        shot = { path, ...pngStats(buf) };
+      }
+      return { ...px, shot };
+    }
+    case 'influence': {
+      // Picks a pixel, switches to the influence view and waits for its map; then compares the picture around the
+      // picked pixel with the plain input view (the overlay must change it) and counts coloured pixels there.
+      await pollFor(page, 'a finished run', async () => (await facts(f)).status === 'done');
+      const picture = f.locator('canvas.picture');
+      const box = await picture.boundingBox();
+      const at = { x: box.width * req.pick[0], y: box.height * req.pick[1] };
+      await picture.click({ position: at });
+      await pollFor(page, 'the weights of the picked pixel', async () => Boolean((await facts(f)).weights));
+      await picture.press('i');
+      const d = await pollFor(page, 'the influence map of the picked pixel', async () => {
+        const x = await facts(f);
+        return x.influence && x.view === 'influence' ? x : null;
+      });
+      const region = (cx, cy, r) => f.evaluate(([cx, cy, r]) => {
+        const c = document.querySelector('canvas.picture');
+        const dpr = window.devicePixelRatio || 1;
+        const x0 = Math.max(0, Math.round((cx - r) * dpr)), y0 = Math.max(0, Math.round((cy - r) * dpr));
+        const w = Math.min(c.width - x0, Math.round(2 * r * dpr)), h = Math.min(c.height - y0, Math.round(2 * r * dpr));
+        return Array.from(c.getContext('2d').getImageData(x0, y0, w, h).data);
+      }, [cx, cy, r]);
+      const R = 24;
+      const over = await region(at.x, at.y, R);
+      await picture.press('s');
+      await pollFor(page, 'the start view', async () => (await facts(f)).view === 'start');
+      const plain = await region(at.x, at.y, R);
+      await picture.press('i');
+      await pollFor(page, 'the influence view again', async () => (await facts(f)).view === 'influence');
+      let diff = 0, coloured = 0;
+      for (let i = 0; i < Math.min(over.length, plain.length); i += 4) {
+        diff += Math.abs(over[i] - plain[i]) + Math.abs(over[i + 1] - plain[i + 1]) + Math.abs(over[i + 2] - plain[i + 2]);
+        if (Math.max(over[i], over[i + 1], over[i + 2]) - Math.min(over[i], over[i + 1], over[i + 2]) > 40) coloured++;
+      }
+      const legend = await f.locator('.legend').innerText();
+      const readout = await f.locator('.readout').innerText();
+      // For the picture, zoom in around the picked pixel (wheel over it), so the map is large enough to read.
+      if (req.zoom) {
+        await f.evaluate(([x, y, n]) => {
+          const c = document.querySelector('canvas.picture');
+          const r = c.getBoundingClientRect();
+          for (let k = 0; k < n; k++) c.dispatchEvent(new WheelEvent('wheel', { deltaY: -100, clientX: r.left + x, clientY: r.top + y, bubbles: true, cancelable: true }));
+        }, [at.x, at.y, req.zoom]);
+      }
+      if (req.zoom) await page.waitForTimeout(300);
+      let shot = null;
+      if (req.name) {
+        const path = join(outDir, `${req.name}.png`);
+        const frameBox = await page.locator('iframe.webview.ready').last().boundingBox();
+        const buf = await page.screenshot({ path, ...(frameBox ? { clip: frameBox } : {}) });
+        shot = { path, ...pngStats(buf) };
+      }
+      return { ...d, meanDiff: diff / Math.max(1, over.length / 4), coloured, pixels: over.length / 4, legend, readout, shot };
+    }
+    case 'pin': {
+      // Pins the shown step (the last one of a finished run) as the A/B baseline.
+      await pollFor(page, 'a finished run', async () => (await facts(f)).status === 'done');
+      await f.locator('button', { hasText: 'pin this step' }).first().click();
+      return pollFor(page, 'the pinned result', async () => {
+        const x = await facts(f);
+        return x.pinned ? x : null;
+      });
+    }
+    case 'ab': {
+      // After a change, waits for the new run's comparison with the pinned result and reads the A/B section.
+      const d = await pollFor(page, 'a comparison with the pinned result', async () => {
+        const x = await facts(f);
+        return x.status === 'done' && x.pinned && x.comparison && (!req.notRun || x.runId !== req.notRun) ? x : null;
+      });
+      await f.locator('section.ab').scrollIntoViewIfNeeded();
+      const ab = await f.evaluate(() => {
+        const counts = Array.from(document.querySelectorAll('canvas.ab-picture')).map((c) => {
+          const { data } = c.getContext('2d').getImageData(0, 0, c.width, c.height);
+          const set = new Set();
+          for (let i = 0; i < data.length; i += 16) set.add((data[i] << 16) | (data[i + 1] << 8) | data[i + 2]);
+          return set.size;
+        });
+        const rows = Array.from(document.querySelectorAll('.ab-table tr')).map((tr) => Array.from(tr.children).map((c) => c.textContent));
+        return { visible: !document.querySelector('section.ab').hidden, counts, rows, between: document.querySelector('.ab-between').textContent, label: document.querySelector('.ab-label').textContent };
+      });
+      let shot = null;
+      if (req.name) {
+        const path = join(outDir, `${req.name}.png`);
+        const frameBox = await page.locator('iframe.webview.ready').last().boundingBox();
+        const buf = await page.screenshot({ path, ...(frameBox ? { clip: frameBox } : {}) });
+        shot = { path, ...pngStats(buf) };
+      }
+      return { ...d, ...ab, shot };
+    }
     default:
       throw new Error(`unknown live run probe ${req.action}`);
   }

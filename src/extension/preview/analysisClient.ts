@@ -12,7 +12,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { WireVerdict } from '../../protocol/preview';
-import type { FromAnalysis, ImpulseResult, KnobSet, Picture, ToAnalysis, WeightsResult } from './analysisProtocol';
+import { SUPERSEDED, type AnyPicture, type ApproximatesResult, type CompareResult, type FrozenAt, type FromAnalysis, type ImpulseResult, type InfluenceResult, type KnobSet, type Picture, type SpectrumResult, type ToAnalysis, type WeightsResult } from './analysisProtocol';
 
 export const ANALYSIS_BUNDLE_NAME = 'preview-analysis.js';
 
@@ -48,6 +48,11 @@ export interface AnalysisService {
   impulse(text: string, knobs: KnobSet, steps: number): Promise<ImpulseResult | null>;
   scene(scene: string, noise: number, seed: number, size: number): Promise<{ noisy: Picture; clean: Picture }>;
   decode(bytes: Uint8Array, range?: { lo: number; hi: number }): Promise<Picture>;
+  /** A/B metrics of `result` (against `reference` and `pinned` when given); see analysisCompute.compareResult. */
+  compare(result: AnyPicture, reference: AnyPicture | null, pinned: AnyPicture | null): Promise<CompareResult>;
+  spectrum(text: string, knobs: KnobSet, at?: FrozenAt): Promise<SpectrumResult>;
+  approximates(text: string, knobs: KnobSet, at?: FrozenAt): Promise<ApproximatesResult>;
+  influence(req: Omit<ToAnalysis.Influence, 'type' | 'id'>): Promise<InfluenceResult>;
   dispose(): Promise<void>;
 }
 
@@ -122,9 +127,78 @@ export class AnalysisClient implements AnalysisService {
     return m.impulse;
   }
 
+  async compare(result: AnyPicture, reference: AnyPicture | null, pinned: AnyPicture | null): Promise<CompareResult> {
+    const m = await this.request({ type: 'compare', id: this.nextId++, result, reference, pinned });
+    if (m.type !== 'compare') throw new Error('unexpected answer');
+    return m.compare;
+  }
+
+  async spectrum(text: string, knobs: KnobSet, at?: FrozenAt): Promise<SpectrumResult> {
+    const m = await this.request({ type: 'spectrum', id: this.nextId++, text, knobs, ...(at ? { at } : {}) });
+    if (m.type !== 'spectrum') throw new Error('unexpected answer');
+    return m.spectrum;
+  }
+
+  async approximates(text: string, knobs: KnobSet, at?: FrozenAt): Promise<ApproximatesResult> {
+    const m = await this.request({ type: 'approximates', id: this.nextId++, text, knobs, ...(at ? { at } : {}) });
+    if (m.type !== 'approximates') throw new Error('unexpected answer');
+    return m.approximates;
+  }
+
+  async influence(req: Omit<ToAnalysis.Influence, 'type' | 'id'>): Promise<InfluenceResult> {
+    const m = await this.request({ type: 'influence', id: this.nextId++, ...req });
+    if (m.type !== 'influence') throw new Error('unexpected answer');
+    return m.influence;
+  }
+
   async dispose(): Promise<void> {
     const w = this.worker ? await this.worker.catch(() => null) : null;
     this.worker = null;
     if (w) await w.terminate();
+  }
+}
+
+/**
+ * The live run's analysis service over two threads: everything on the first, the influence map (seconds for long
+ * runs of nonlinear schemes) on a second, so a verdict or a frequency map for the next edit never waits behind it.
+ * A new influence request while one is in flight ends the older one's thread (its promise rejects with
+ * SUPERSEDED) and starts a new thread.
+ */
+export class SplitAnalysis implements AnalysisService {
+  private slow: AnalysisService | null = null;
+  private inFlight = 0;
+
+  constructor(private readonly main: AnalysisService, private readonly newSlow: () => AnalysisService) {}
+
+  verdict(text: string, knobs: KnobSet): ReturnType<AnalysisService['verdict']> { return this.main.verdict(text, knobs); }
+  weights(req: Omit<ToAnalysis.Weights, 'type' | 'id'>): Promise<WeightsResult> { return this.main.weights(req); }
+  impulse(text: string, knobs: KnobSet, steps: number): Promise<ImpulseResult | null> { return this.main.impulse(text, knobs, steps); }
+  scene(scene: string, noise: number, seed: number, size: number): ReturnType<AnalysisService['scene']> { return this.main.scene(scene, noise, seed, size); }
+  decode(bytes: Uint8Array): Promise<Picture> { return this.main.decode(bytes); }
+  compare(result: AnyPicture, reference: AnyPicture | null, pinned: AnyPicture | null): Promise<CompareResult> { return this.main.compare(result, reference, pinned); }
+  spectrum(text: string, knobs: KnobSet, at?: FrozenAt): Promise<SpectrumResult> { return this.main.spectrum(text, knobs, at); }
+  approximates(text: string, knobs: KnobSet, at?: FrozenAt): Promise<ApproximatesResult> { return this.main.approximates(text, knobs, at); }
+
+  async influence(req: Omit<ToAnalysis.Influence, 'type' | 'id'>): Promise<InfluenceResult> {
+    if (this.inFlight > 0 && this.slow) {
+      const old = this.slow;
+      this.slow = null;
+      void old.dispose();
+    }
+    const slow = (this.slow ??= this.newSlow());
+    this.inFlight++;
+    try {
+      return await slow.influence(req);
+    } catch (err) {
+      throw slow === this.slow ? err : new Error(SUPERSEDED);
+    } finally {
+      this.inFlight--;
+    }
+  }
+
+  async dispose(): Promise<void> {
+    const slow = this.slow;
+    this.slow = null;
+    await Promise.all([this.main.dispose(), slow?.dispose()]);
   }
 }

@@ -1,8 +1,11 @@
 // Messages between the live run's host side and its analysis worker (stability verdict, weights at a pixel,
-// impulse response, scene generation and image decoding). Types only; the worker parses the scheme text itself, so requests carry plain data.
+// impulse response, scene generation and image decoding, A/B metrics, frequency map, modified equation, influence map). Types only; the worker parses the scheme text itself, so requests carry plain data.
 // Must not import vscode or the DOM.
 
-import type { WireVerdict } from '../../protocol/preview';
+import type { WireRange, WireVerdict } from '../../protocol/preview';
+
+/** The message of an influence request ended by a newer one (the session drops it silently). */
+export const SUPERSEDED = 'superseded by a newer request';
 
 export interface KnobSet {
   readonly values: Readonly<Record<string, number>>;
@@ -30,7 +33,100 @@ export namespace ToAnalysis {
   export interface Scene { readonly type: 'scene'; readonly id: number; readonly scene: string; readonly noise: number; readonly seed: number; readonly size: number }
   /** Decodes an image file's bytes to its grey (luma) picture, with the colour and alpha channels; `range` as --range. */
   export interface Decode { readonly type: 'decode'; readonly id: number; readonly bytes: Uint8Array; readonly range?: { readonly lo: number; readonly hi: number } }
-  export type Type = Verdict | Weights | Impulse | Scene | Decode;
+  /**
+   * Metrics of one result for an A/B comparison: PSNR and SSIM against `reference` (when given) and its total
+   * variation; with `pinned`, also PSNR and SSIM of the result against the pinned one.
+   */
+  export interface Compare {
+    readonly type: 'compare';
+    readonly id: number;
+    readonly result: AnyPicture;
+    readonly reference: AnyPicture | null;
+    readonly pinned: AnyPicture | null;
+  }
+  /** The frequency map of the scheme at these knob values (ToPreview.Spectrum without its envelope). */
+  export interface Spectrum { readonly type: 'spectrum'; readonly id: number; readonly text: string; readonly knobs: KnobSet; readonly at?: FrozenAt }
+  /** What the scheme approximates (modified equation) and the diagnostics that go with it. */
+  export interface Approximates {
+    readonly type: 'approximates';
+    readonly id: number;
+    readonly text: string;
+    readonly knobs: KnobSet;
+    /** Freeze the coefficients at this pixel of this full-resolution state (a picked pixel); default the initial state. */
+    readonly at?: FrozenAt;
+  }
+  /**
+   * The influence map of pixel (x, y) of `field` after `steps` steps from the run's input: the trajectory is
+   * recomputed at full resolution from `image` (null for schemes whose fields start from expressions).
+   */
+  export interface Influence {
+    readonly type: 'influence';
+    readonly id: number;
+    readonly text: string;
+    readonly knobs: KnobSet;
+    readonly image: Picture | null;
+    readonly width: number;
+    readonly height: number;
+    readonly steps: number;
+    readonly x: number;
+    readonly y: number;
+    readonly field: string;
+  }
+  export type Type = Verdict | Weights | Impulse | Scene | Decode | Compare | Spectrum | Approximates | Influence;
+}
+
+/** A pixel of a full-resolution state (every field, indexed like scheme.fields) at a recorded step. */
+export interface FrozenAt {
+  readonly fields: readonly Float32Array[] | readonly Float64Array[];
+  readonly width: number;
+  readonly height: number;
+  readonly t: number;
+  readonly step: number;
+  readonly x: number;
+  readonly y: number;
+}
+
+export interface SpectrumResult {
+  readonly dims: 1 | 2;
+  readonly cols: number;
+  readonly rows: number;
+  readonly amp: Float32Array;
+  readonly lo: number;
+  readonly hi: number;
+  readonly edge: number[];
+  readonly peak: { readonly value: number; readonly theta: number[] };
+  readonly isotropy: { readonly radius: number; readonly angles: number[]; readonly error: number[] } | null;
+  readonly note: string;
+}
+
+export interface ApproximatesResult {
+  readonly text: string;
+  readonly details: string[];
+  readonly warnings: { readonly severity: 'warning' | 'info'; readonly message: string; readonly range: WireRange | null }[];
+}
+
+export interface InfluenceResult {
+  readonly steps: number;
+  readonly field: string;
+  readonly x0: number;
+  readonly y0: number;
+  readonly width: number;
+  readonly height: number;
+  readonly data: Float32Array;
+  readonly sum: number;
+  readonly peak: number;
+  readonly note: string | null;
+}
+
+export interface SideMetrics {
+  readonly psnr: number | null;
+  readonly ssim: number | null;
+  readonly tv: number | null;
+}
+
+export interface CompareResult {
+  readonly metrics: SideMetrics;
+  readonly between: { readonly psnr: number; readonly ssim: number } | null;
 }
 
 export interface WeightsResult {
@@ -52,6 +148,13 @@ export interface ImpulseResult {
   readonly heatSigma: number;
   readonly sum: number;
   readonly truncated: boolean;
+}
+
+/** A picture in either precision (run states are Float64 for `dtype float64` schemes). */
+export interface AnyPicture {
+  readonly width: number;
+  readonly height: number;
+  readonly data: Float32Array | Float64Array;
 }
 
 export interface Picture {
@@ -76,6 +179,10 @@ export namespace FromAnalysis {
   export interface Impulse { readonly type: 'impulse'; readonly id: number; readonly impulse: ImpulseResult | null }
   export interface Scene { readonly type: 'scene'; readonly id: number; readonly noisy: Picture; readonly clean: Picture }
   export interface Decode { readonly type: 'decode'; readonly id: number; readonly picture: Picture }
+  export interface Compare { readonly type: 'compare'; readonly id: number; readonly compare: CompareResult }
+  export interface Spectrum { readonly type: 'spectrum'; readonly id: number; readonly spectrum: SpectrumResult }
+  export interface Approximates { readonly type: 'approximates'; readonly id: number; readonly approximates: ApproximatesResult }
+  export interface Influence { readonly type: 'influence'; readonly id: number; readonly influence: InfluenceResult }
   export interface Failed { readonly type: 'error'; readonly id: number; readonly message: string }
-  export type Type = Verdict | Weights | Impulse | Scene | Decode | Failed;
+  export type Type = Verdict | Weights | Impulse | Scene | Decode | Compare | Spectrum | Approximates | Influence | Failed;
 }

@@ -1,14 +1,14 @@
 // Keeps one live run panel per scheme document: opens or reveals it, revives panels after a reload through the
-// WebviewPanelSerializer (the page's saved state names its document), and owns the shared analysis thread.
+// WebviewPanelSerializer (the page's saved state names its document), and owns the shared analysis threads.
 
 import * as vscode from 'vscode';
 import { Disposable } from '../util/dispose';
-import { AnalysisClient } from './analysisClient';
+import { AnalysisClient, SplitAnalysis } from './analysisClient';
 import { LIVE_RUN_VIEW_TYPE, LiveRunPanel, webviewOptions } from './previewPanel';
 
 export class PreviewManager extends Disposable implements vscode.WebviewPanelSerializer {
   private readonly panels = new Map<string, LiveRunPanel>();
-  private analysis: AnalysisClient | null = null;
+  private analysis: SplitAnalysis | null = null;
 
   constructor(private readonly context: vscode.ExtensionContext, private readonly log: (line: string) => void) {
     super();
@@ -16,8 +16,8 @@ export class PreviewManager extends Disposable implements vscode.WebviewPanelSer
     this._register({ dispose: () => { void this.analysis?.dispose(); this.analysis = null; } });
   }
 
-  private analysisService(): AnalysisClient {
-    this.analysis ??= new AnalysisClient();
+  private analysisService(): SplitAnalysis {
+    this.analysis ??= new SplitAnalysis(new AnalysisClient(), () => new AnalysisClient());
     return this.analysis;
   }
 

@@ -63,6 +63,7 @@ export function webviewOptions(extensionUri: vscode.Uri): vscode.WebviewOptions 
 const inputKey = (uri: vscode.Uri) => `fluxel.liveRun.input:${uri.toString()}`;
 const knobsKey = (uri: vscode.Uri) => `fluxel.liveRun.knobs:${uri.toString()}`;
 const namedInputsKey = (uri: vscode.Uri) => `fluxel.liveRun.namedInputs:${uri.toString()}`;
+const pinnedKey = (uri: vscode.Uri) => `fluxel.liveRun.pinned:${uri.toString()}`;
 
 function fileNameOf(uri: vscode.Uri): string {
   return uri.path.split('/').pop() ?? uri.toString();
@@ -131,6 +132,8 @@ export class LiveRunPanel extends Disposable {
       rememberInput: (input: InputChoice) => void this.ctx.memory.update(inputKey(this.document), input),
       recallKnobs: () => this.ctx.memory.get(knobsKey(this.document)),
       rememberKnobs: (knobs) => void this.ctx.memory.update(knobsKey(this.document), knobs),
+      recallPinned: () => this.ctx.memory.get(pinnedKey(this.document)),
+      rememberPinned: (stored) => void this.ctx.memory.update(pinnedKey(this.document), stored ?? undefined),
       pickImage: async () => {
         const picked = await vscode.window.showOpenDialog({
           canSelectMany: false, openLabel: 'Run on this image',

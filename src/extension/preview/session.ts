@@ -13,10 +13,11 @@ import { sensitivityKey } from '../../engine/sensitivity';
 import { parse, parseAndCheck } from '../../notation';
 import type { SourceRange } from '../../notation/ast';
 import type { CheckedScheme } from '../../notation/scheme';
-import type { FromPreview, InputChoice, KnobSpec, NamedInputChoice, NamedInputSpec, SampleRange, ToPreview, WireRange } from '../../protocol/preview';
+import type { FromPreview, InputChoice, KnobSpec, NamedInputChoice, NamedInputSpec, SampleRange, ToPreview, WireMeasures, WirePinned, WireRange } from '../../protocol/preview';
 import { bindInputs, colourFields, InputBindingError, makeMask, namedInputs, pictureFromGrey, type InputPicture } from '../../images/inputs';
 import type { AnalysisService } from './analysisClient';
-import type { KnobSet } from './analysisProtocol';
+import { SUPERSEDED, type KnobSet, type SideMetrics } from './analysisProtocol';
+import { restorePinned, storePinned, type PinnedResult, type StoredPinned } from './baseline';
 import { downsample, frameStride, knobEdits, rowOf, shrinkFactor, type OffsetEdit } from './frames';
 
 /** The engine worker as the session uses it (EngineWorker, or a fake in tests). */
@@ -116,6 +117,10 @@ export interface SessionEnv {
   fit?(job: FitJob, signal: AbortSignal, onEvaluation: (count: number) => void): Promise<FitOutcome>;
   /** Offers to write fitted values into the file; resolves true when the user accepts. */
   offerWrite?(summary: string): Promise<boolean>;
+  /** The pinned result (A/B) remembered for this document, in its stored form (see baseline.ts). */
+  recallPinned?(): unknown;
+  /** Remembers the pinned result (null: unpinned, or too large to keep across reloads). */
+  rememberPinned?(stored: StoredPinned | null): void;
 }
 
 /**
@@ -177,6 +182,26 @@ function storedNamed(v: unknown): Record<string, NamedInputChoice> {
   return out;
 }
 
+/** The per-step measures the engine reports with a field's statistics (when it measures them). */
+interface MeasuredStats {
+  readonly drift?: number;
+  readonly tv?: number;
+  readonly energy?: number;
+  readonly change?: { readonly rms: number; readonly max: number };
+}
+
+/** The engine's per-step measures of one field as the wire carries them; null when the engine reported none. */
+export function wireMeasures(st: MeasuredStats): WireMeasures | null {
+  if (st.drift === undefined && st.tv === undefined && st.energy === undefined && st.change === undefined) return null;
+  return { drift: st.drift ?? null, tv: st.tv ?? null, energy: st.energy ?? null, changeRms: st.change?.rms ?? null, changeMax: st.change?.max ?? null };
+}
+
+/** current − pinned per metric; null where either side has none. */
+export function metricDelta(current: SideMetrics, pinned: SideMetrics): SideMetrics {
+  const d = (a: number | null, b: number | null) => (a === null || b === null ? null : a - b);
+  return { psnr: d(current.psnr, pinned.psnr), ssim: d(current.ssim, pinned.ssim), tv: d(current.tv, pinned.tv) };
+}
+
 export function wireRange(r: SourceRange): WireRange {
   return { start: { line: r.start.line, column: r.start.column }, end: { line: r.end.line, column: r.end.column } };
 }
@@ -202,6 +227,14 @@ interface LiveRun {
   ended: ToPreview.RunEnded | null;
   verdict: ToPreview.Verdict | null;
   impulse: ToPreview.Impulse | null;
+  /** The clean reference the run's PSNR is measured against (scenes), or null. */
+  readonly reference: GreyPicture | null;
+  /** The input picture the run started from (fields `= image`), or null. */
+  readonly image: GreyPicture | null;
+  spectrum: ToPreview.Spectrum | null;
+  approximates: ToPreview.Approximates | null;
+  /** The run's knob values and input in words, for the label of a pinned result. */
+  readonly label: string;
   /** Milliseconds per step between recorded frames (NaN until two frames arrived). */
   stepMs: number;
   /** When the run was handed to the worker (NaN while it waits for the worker). */
@@ -253,11 +286,14 @@ export class PreviewSession {
 
   /** Knob values remembered from an earlier session, applied at the first successful check. */
   private recalled: StoredKnobs | null;
+  /** The pinned result of an A/B comparison; kept across edits, reruns, input changes and re-shown panels. */
+  private pinned: PinnedResult | null;
 
   constructor(private readonly env: SessionEnv) {
     this.input = env.recallInput() ?? DEFAULT_INPUT;
     this.named = storedNamed(env.recallNamedInputs?.());
     this.recalled = storedKnobs(env.recallKnobs?.());
+    this.pinned = restorePinned(env.recallPinned?.());
   }
 
   private rememberKnobs(): void {
@@ -536,9 +572,11 @@ export class PreviewSession {
       frameWidth: Math.ceil(width / shrink), frameHeight: Math.ceil(height / shrink), steps, every, dt: knobs.dt, field,
       hasReference: reference !== null && needsImage,
     };
+    const knobWords = [...Object.entries(knobs.values).map(([k, v]) => `${k} = ${Number(v.toPrecision(4))}`), `dt = ${Number(knobs.dt.toPrecision(4))}`].join(', ');
     const run: LiveRun = {
       runId, text: g.text, scheme: s, knobs, started, shrink, handle: null, engine: null, frames: [], findings: [], ended: null,
-      verdict: null, impulse: null, stepMs: NaN, launchedAt: NaN,
+      verdict: null, impulse: null, reference: needsImage ? reference : null, image: needsImage ? image : null, spectrum: null, approximates: null, label: needsImage ? `${knobWords} · ${inputLabel(input)}` : knobWords,
+      stepMs: NaN, launchedAt: NaN,
     };
     this.run = run;
     this.env.post(started);
@@ -605,7 +643,8 @@ export class PreviewSession {
     // (starts queued in the worker would each pay for set-up before seeing their own cancellation).
     if (this.busy && this.busy.engine === this.engine && this.engine) this.waiting = launch;
     else launch();
-    // The static verdict and the impulse response come from the analysis thread, beside the run.
+    // The static verdict and the impulse response come from the analysis thread, beside the run; what the stencil
+    // approximates and its frequency map follow the verdict (so they never delay it), for runs still current.
     this.env.analysis.verdict(g.text, knobs).then(
       (v) => {
         // Bounded: a day of typing makes thousands of distinct schemes, and only recent ones come back.
@@ -616,8 +655,32 @@ export class PreviewSession {
         if (this.run === run) this.env.post(run.verdict);
       },
       (err: unknown) => this.env.log?.(`verdict failed: ${String(err)}`),
-    );
+    ).then(() => {
+      if (this.run === run && !this.disposed) this.requestWhy(run);
+    });
     this.requestImpulse(run, steps);
+  }
+
+  /** The modified-equation summary and the frequency map of a run's scheme at its knob values. */
+  private requestWhy(run: LiveRun): void {
+    const { text, knobs, runId } = run;
+    this.env.analysis.approximates(text, knobs).then(
+      (a) => {
+        // A summary frozen at a pixel the user picked meanwhile is the more specific one: it stays.
+        if (run.approximates) return;
+        run.approximates = { type: 'approximates', source: this.env.source, runId, ...a };
+        if (this.run === run) this.env.post(run.approximates);
+      },
+      (err: unknown) => this.env.log?.(`modified equation failed: ${String(err)}`),
+    );
+    this.env.analysis.spectrum(text, knobs).then(
+      (m) => {
+        if (run.spectrum) return;
+        run.spectrum = { type: 'spectrum', source: this.env.source, runId, ...m };
+        if (this.run === run) this.env.post(run.spectrum);
+      },
+      (err: unknown) => this.env.log?.(`frequency map failed: ${String(err)}`),
+    );
   }
 
   private requestImpulse(run: LiveRun, steps: number): void {
@@ -664,10 +727,12 @@ export class PreviewSession {
       return run.shrink === 1 && f.data instanceof Float32Array ? f.data : downsample(f, run.shrink).data;
     };
     const rgb = cf ? [shrunk(cf.red), shrunk(cf.green), shrunk(cf.blue)] : null;
+    const measures = wireMeasures(st);
     this.env.post({
       type: 'frame', source: this.env.source, runId: run.runId, field: name, step: frame.step, t: frame.t,
       width: small.width, height: small.height, data: small.data, stats: { min: st.min, max: st.max, mean: st.mean },
       psnr: typeof frame.stats.psnr === 'number' && name === run.started.field ? frame.stats.psnr : null,
+      ...(measures ? { measures } : {}),
       ...(rgb && rgb[0] && rgb[1] && rgb[2] ? { colour: { red: rgb[0], green: rgb[1], blue: rgb[2] } } : {}),
     });
   }
@@ -700,7 +765,10 @@ export class PreviewSession {
     for (const f of r.findings) this.env.post(f);
     if (r.verdict) this.env.post(r.verdict);
     if (r.impulse) this.env.post(r.impulse);
+    if (r.approximates) this.env.post(r.approximates);
+    if (r.spectrum) this.env.post(r.spectrum);
     if (r.ended) this.env.post(r.ended);
+    if (this.pinned) this.postPinned();
   }
 
   /**
@@ -885,6 +953,113 @@ export class PreviewSession {
         this.startRun();
         return;
       }
+      case 'pin':
+        await this.pin(msg.runId, msg.step);
+        return;
+      case 'unpin':
+        this.pinned = null;
+        this.env.rememberPinned?.(null);
+        this.env.post({ type: 'baseline', source: this.env.source, pinned: null });
+        return;
+      case 'requestComparison':
+        await this.compare(msg.runId, msg.step);
+        return;
+      case 'requestInfluence':
+        await this.influence(msg);
+        return;
+    }
+  }
+
+  /**
+   * The influence map of a pixel at a recorded step: the analysis thread replays the run from its input at full
+   * resolution (the same knobs, the same picture) and sweeps the frozen weights backwards over those states.
+   */
+  private async influence(msg: FromPreview.RequestInfluence): Promise<void> {
+    const r = this.run;
+    if (!r || r.runId !== msg.runId || msg.x >= r.started.width || msg.y >= r.started.height) return;
+    if (!r.frames.some((f) => f.step === msg.step)) return;
+    const name = r.scheme.fields.some((f) => f.name === this.shownField && f.updated) ? (this.shownField as string) : r.started.field;
+    if (msg.step === 0) {
+      this.env.post({ type: 'notice', source: this.env.source, level: 'info', text: 'The influence map needs a step after the start: at step 0 each pixel is its own input.' });
+      return;
+    }
+    try {
+      const m = await this.env.analysis.influence({
+        text: r.text, knobs: r.knobs, image: r.image, width: r.started.width, height: r.started.height, steps: msg.step, x: msg.x, y: msg.y, field: name,
+      });
+      if (this.run !== r) return;
+      this.env.post({ type: 'influence', source: this.env.source, runId: r.runId, step: msg.step, x: msg.x, y: msg.y, ...m });
+    } catch (err) {
+      if (err instanceof Error && err.message === SUPERSEDED) return;
+      this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `The influence map of (${msg.x}, ${msg.y}) could not be computed: ${err instanceof Error ? err.message : String(err)}` });
+    }
+  }
+
+  /** The field a request about the current run concerns: the shown one when the run has it, else the run's own. */
+  private fieldOf(r: LiveRun): string {
+    return this.shownField && r.scheme.fields.some((f) => f.name === this.shownField) ? this.shownField : r.started.field;
+  }
+
+  /**
+   * Pins the shown field of run `runId` at `step` (its full-resolution state) as the baseline of an A/B comparison,
+   * with its metrics against the run's clean reference; replaces an older pin and is remembered per file.
+   */
+  private async pin(runId: number, step: number): Promise<void> {
+    const r = this.run;
+    if (!r || r.runId !== runId) return;
+    const frame = r.frames.find((f) => f.step === step);
+    const name = this.fieldOf(r);
+    const snap = frame?.fields[name];
+    if (!frame || !snap) return;
+    const data = Float32Array.from(snap.data);
+    try {
+      const c = await this.env.analysis.compare({ width: snap.width, height: snap.height, data }, r.reference, null);
+      if (this.disposed) return;
+      this.pinned = {
+        label: `step ${step} · ${r.label}`, step, t: frame.t, field: name, width: snap.width, height: snap.height, data, metrics: c.metrics,
+        pinnedAt: new Date().toISOString(),
+      };
+    } catch (err) {
+      this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `The result could not be pinned: ${err instanceof Error ? err.message : String(err)}` });
+      return;
+    }
+    const stored = storePinned(this.pinned);
+    this.env.rememberPinned?.(stored);
+    if (!stored) this.env.post({ type: 'notice', source: this.env.source, level: 'info', text: 'The pinned result is too large to be kept across reloads; it stays while the panel is open.' });
+    this.postPinned();
+  }
+
+  /** Posts the pinned result at the preview size of its own grid. */
+  private postPinned(): void {
+    const p = this.pinned;
+    if (!p) return;
+    const small = downsample(p, shrinkFactor(p.width, p.height, this.env.settings().maxPreviewSize));
+    const wire: WirePinned = {
+      label: p.label, step: p.step, t: p.t, field: p.field, fullWidth: p.width, fullHeight: p.height, width: small.width, height: small.height,
+      data: small.data, metrics: p.metrics, pinnedAt: p.pinnedAt,
+    };
+    this.env.post({ type: 'baseline', source: this.env.source, pinned: wire });
+  }
+
+  /** The pinned result against the current run's shown field at `step`: both sides' metrics and their distance. */
+  private async compare(runId: number, step: number): Promise<void> {
+    const r = this.run;
+    const p = this.pinned;
+    if (!r || r.runId !== runId || !p) return;
+    const frame = r.frames.find((f) => f.step === step);
+    const snap = frame?.fields[this.fieldOf(r)];
+    if (!frame || !snap) return;
+    const comparable = snap.width === p.width && snap.height === p.height;
+    try {
+      const c = await this.env.analysis.compare(snap, r.reference, comparable ? p : null);
+      if (this.run !== r || this.pinned !== p) return;
+      this.env.post({
+        type: 'comparison', source: this.env.source, runId: r.runId, step, comparable,
+        note: comparable ? null : `The pinned result is ${p.width}×${p.height}, this run ${snap.width}×${snap.height}: only side by side.`,
+        pinned: p.metrics, current: c.metrics, delta: metricDelta(c.metrics, p.metrics), between: c.between,
+      });
+    } catch (err) {
+      this.env.log?.(`comparison failed: ${String(err)}`);
     }
   }
 
@@ -906,6 +1081,27 @@ export class PreviewSession {
       this.env.post({ type: 'notice', source: this.env.source, level: 'error', text: `Weights at (${msg.x}, ${msg.y}) could not be computed: ${err instanceof Error ? err.message : String(err)}` });
     }
     if (msg.step > 0) this.requestImpulse(r, msg.step);
+    // What the scheme approximates with its coefficients frozen at the picked pixel of this step's state (for
+    // linear schemes the same as before; for others it follows the pixel).
+    const at = { fields: fields as Float32Array[], width: r.started.width, height: r.started.height, t: frame.t, step: msg.step, x: msg.x, y: msg.y };
+    this.env.analysis.approximates(r.text, r.knobs, at).then(
+      (a) => {
+        if (this.run !== r) return;
+        r.approximates = { type: 'approximates', source: this.env.source, runId: r.runId, ...a };
+        this.env.post(r.approximates);
+      },
+      (err: unknown) => this.env.log?.(`modified equation at (${msg.x}, ${msg.y}) failed: ${String(err)}`),
+    );
+    // Likewise the frequency map, for schemes whose weights depend on the state (a linear scheme's map does not change).
+    if (r.spectrum && r.spectrum.note.includes('exact for this linear scheme')) return;
+    this.env.analysis.spectrum(r.text, r.knobs, at).then(
+      (m) => {
+        if (this.run !== r) return;
+        r.spectrum = { type: 'spectrum', source: this.env.source, runId: r.runId, ...m };
+        this.env.post(r.spectrum);
+      },
+      (err: unknown) => this.env.log?.(`frequency map at (${msg.x}, ${msg.y}) failed: ${String(err)}`),
+    );
   }
 
   /** The id of the run whose frames are current (for tests and the bench). */

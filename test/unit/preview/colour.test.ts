@@ -2,7 +2,7 @@
 // end lightness, and lightness moves monotonically away from the middle on both themes.
 
 import { describe, expect, it } from 'vitest';
-import { divergingIndex, divergingTable, greyByte, labToRgb, luminance } from '../../../media/preview/colour';
+import { divergingIndex, divergingTable, greyByte, labToRgb, luminance, sequentialIndex, sequentialTable } from '../../../media/preview/colour';
 
 const rgbAt = (t: Uint8Array, i: number): [number, number, number] => [t[i * 3], t[i * 3 + 1], t[i * 3 + 2]];
 
@@ -46,5 +46,21 @@ describe('diverging (change) map', () => {
 
   it('maps grey values through the window', () => {
     expect([greyByte(-1, 0, 1), greyByte(0.5, 0, 1), greyByte(2, 0, 1), greyByte(NaN, 0, 1)]).toEqual([0, 128, 255, 0]);
+  });
+});
+
+describe('sequential (frequency map) map', () => {
+  const t = sequentialTable();
+  it('rises in luminance from its low to its high end, so larger |G| is always lighter', () => {
+    const L = Array.from({ length: 256 }, (_, i) => luminance(rgbAt(t, i)));
+    for (let i = 0; i < 255; i++) expect(L[i + 1] - L[i]).toBeGreaterThanOrEqual(-1e-3);
+    expect(L[255] - L[0]).toBeGreaterThan(0.6);
+  });
+  it('indexes values over the colour-bar range, clamped', () => {
+    expect(sequentialIndex(0, 0, 2)).toBe(0);
+    expect(sequentialIndex(1, 0, 2)).toBe(128);
+    expect(sequentialIndex(5, 0, 2)).toBe(255);
+    expect(sequentialIndex(-1, 0, 2)).toBe(0);
+    expect(sequentialIndex(NaN, 0, 2)).toBe(0);
   });
 });

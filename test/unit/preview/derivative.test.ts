@@ -76,6 +76,10 @@ function setup() {
     impulse: async () => null,
     scene: async () => ({ noisy: picture, clean: picture }),
     decode: async () => picture,
+    compare: async () => { throw new Error('not used'); },
+    spectrum: async () => { throw new Error('not used'); },
+    approximates: async () => { throw new Error('not used'); },
+    influence: async () => { throw new Error('not used'); },
     dispose: async () => undefined,
   };
   const env: SessionEnv = {

@@ -27,6 +27,10 @@ describe('messages from the webview', () => {
     ['rerun', { type: 'rerun', source: src }],
     ['fitKnobs', { type: 'fitKnobs', source: src }],
     ['fitKnobs with names', { type: 'fitKnobs', source: src, names: ['K', 'sigma'] }],
+    ['pin', { type: 'pin', source: src, runId: 3, step: 40 }],
+    ['unpin', { type: 'unpin', source: src }],
+    ['requestComparison', { type: 'requestComparison', source: src, runId: 3, step: 0 }],
+    ['requestInfluence', { type: 'requestInfluence', source: src, runId: 3, step: 12, x: 5, y: 250 }],
   ];
   for (const [name, msg] of ok) {
     it(`accepts ${name}`, () => expect(validateFromPreview(msg)).toEqual(msg));
@@ -55,6 +59,12 @@ describe('messages from the webview', () => {
     ['fitKnobs with a name that is not one', { type: 'fitKnobs', source: src, names: ['K', 'a b'] }],
     ['fitKnobs with names not a list', { type: 'fitKnobs', source: src, names: 'K' }],
     ['range line 0', { type: 'reveal', source: src, range: { start: { line: 0, column: 1 }, end: { line: 1, column: 1 } } }],
+    ['pin without a step', { type: 'pin', source: src, runId: 3 }],
+    ['pin of a fractional step', { type: 'pin', source: src, runId: 3, step: 2.5 }],
+    ['requestComparison with a negative run', { type: 'requestComparison', source: src, runId: -1, step: 2 }],
+    ['requestInfluence without y', { type: 'requestInfluence', source: src, runId: 3, step: 12, x: 5 }],
+    ['requestInfluence at a negative pixel', { type: 'requestInfluence', source: src, runId: 3, step: 12, x: -5, y: 1 }],
+    ['requestInfluence with a string step', { type: 'requestInfluence', source: src, runId: 3, step: '12', x: 5, y: 1 }],
   ];
   for (const [name, msg] of bad) {
     it(`refuses ${name}`, () => expect(validateFromPreview(msg)).toBeNull());
@@ -62,6 +72,8 @@ describe('messages from the webview', () => {
 
   it('drops properties that are not part of the message', () => {
     expect(validateFromPreview({ type: 'ready', source: src, extra: 1 })).toEqual({ type: 'ready', source: src });
+    expect(validateFromPreview({ type: 'unpin', source: src, runId: 4 })).toEqual({ type: 'unpin', source: src });
+    expect(validateFromPreview({ type: 'pin', source: src, runId: 4, step: 1, data: [1, 2] })).toEqual({ type: 'pin', source: src, runId: 4, step: 1 });
   });
 });
 
@@ -143,6 +155,85 @@ describe('messages from the host', () => {
   it('refuses a profile whose rows differ in length, and an unknown finding kind', () => {
     expect(validateToPreview({ type: 'profile', source: src, runId: 1, row: 3, step: 5, before: new Float32Array(4), after: new Float32Array(3) })).toBeNull();
     expect(validateToPreview({ type: 'finding', source: src, runId: 1, finding: { kind: 'oops', step: 4, x: 1, y: 2, field: 'u', message: 'm', range } })).toBeNull();
+  });
+});
+
+describe('messages of the frequency map, influence map, modified equation and A/B comparison', () => {
+  const measures = { drift: 1e-7, tv: 1234.5, energy: 88.25, changeRms: 0.002, changeMax: 0.04 };
+  const frame = {
+    type: 'frame', source: src, runId: 2, field: 'u', step: 1, t: 0.2, width: 2, height: 1,
+    data: new Float32Array([0, 1]), stats: { min: 0, max: 1, mean: 0.5 }, psnr: 22,
+  };
+  it('accepts a frame with per-step measures (null where not reported, NaN kept) and refuses malformed ones', () => {
+    expect(validateToPreview({ ...frame, measures })).toEqual({ ...frame, measures });
+    const partial = { ...measures, changeRms: null, changeMax: null };
+    expect(validateToPreview({ ...frame, measures: partial })).toEqual({ ...frame, measures: partial });
+    const m = validateToPreview({ ...frame, measures: { ...measures, tv: NaN } });
+    expect(m?.type === 'frame' && Number.isNaN(m.measures?.tv)).toBe(true);
+    expect(validateToPreview({ ...frame, measures: { ...measures, tv: '1' } })).toBeNull();
+    expect(validateToPreview({ ...frame, measures: { drift: 0 } })).toBeNull();
+    expect(validateToPreview({ ...frame, measures: null })).toBeNull();
+  });
+
+  const spectrum = {
+    type: 'spectrum', source: src, runId: 5, dims: 2, cols: 3, rows: 2, amp: new Float32Array([1, 0.5, 1, 0.2, 1, 0.2]), lo: 0, hi: 1,
+    edge: [0, 0, 1, 1], peak: { value: 1, theta: [0, 0] }, isotropy: { radius: 1.5, angles: [0, 0.5], error: [0.01, -0.002] }, note: 'n',
+  };
+  it('accepts a frequency map and refuses one whose grid, edge or isotropy curve is malformed', () => {
+    expect(validateToPreview(spectrum)).toEqual(spectrum);
+    expect(validateToPreview({ ...spectrum, isotropy: null })).toEqual({ ...spectrum, isotropy: null });
+    expect(validateToPreview({ ...spectrum, amp: new Float32Array(5) })).toBeNull();
+    expect(validateToPreview({ ...spectrum, edge: [0, 0, 1] })).toBeNull();
+    expect(validateToPreview({ ...spectrum, edge: [0, 0, 1, NaN] })).toBeNull();
+    expect(validateToPreview({ ...spectrum, hi: 0 })).toBeNull();
+    expect(validateToPreview({ ...spectrum, dims: 1 })).toBeNull();
+    expect(validateToPreview({ ...spectrum, cols: 2000, rows: 1, amp: new Float32Array(2000) })).toBeNull();
+    expect(validateToPreview({ ...spectrum, isotropy: { radius: 1, angles: [0], error: [1, 2] } })).toBeNull();
+  });
+
+  const influence = {
+    type: 'influence', source: src, runId: 5, step: 10, x: 4, y: 5, steps: 10, field: 'u', x0: 0, y0: 1, width: 2, height: 2,
+    data: new Float32Array([0.1, 0.2, 0.3, 0.4]), sum: 1, peak: 0.4, note: null,
+  };
+  it('accepts an influence map and refuses one whose window and data disagree', () => {
+    expect(validateToPreview(influence)).toEqual(influence);
+    expect(validateToPreview({ ...influence, data: new Float32Array(3) })).toBeNull();
+    expect(validateToPreview({ ...influence, x0: -1 })).toBeNull();
+    expect(validateToPreview({ ...influence, peak: -1 })).toBeNull();
+  });
+
+  it('accepts a modified-equation summary with ranged and unranged warnings, and refuses unknown severities', () => {
+    const a = {
+      type: 'approximates', source: src, runId: 5, text: 'approximates u_t = 1·Δu', details: ['order 2 in space, 1 in time'],
+      warnings: [{ severity: 'warning', message: 'source term', range }, { severity: 'info', message: 'drift', range: null }],
+    };
+    expect(validateToPreview(a)).toEqual(a);
+    expect(validateToPreview({ ...a, warnings: [{ severity: 'error', message: 'x', range: null }] })).toBeNull();
+    expect(validateToPreview({ ...a, details: [1] })).toBeNull();
+  });
+
+  const pinned = {
+    label: 'run 3, survey tile, K = 0.06', step: 40, t: 8, field: 'u', fullWidth: 4, fullHeight: 2, width: 2, height: 1,
+    data: new Float32Array([0.5, 0.25]), metrics: { psnr: 27.5, ssim: 0.81, tv: 12 }, pinnedAt: '2026-12-02T03:00:00.000Z',
+  };
+  it('accepts a pinned result and an unpin, and refuses a pinned picture of the wrong size', () => {
+    expect(validateToPreview({ type: 'baseline', source: src, pinned })).toEqual({ type: 'baseline', source: src, pinned });
+    expect(validateToPreview({ type: 'baseline', source: src, pinned: null })).toEqual({ type: 'baseline', source: src, pinned: null });
+    expect(validateToPreview({ type: 'baseline', source: src, pinned: { ...pinned, data: new Float32Array(3) } })).toBeNull();
+    expect(validateToPreview({ type: 'baseline', source: src, pinned: { ...pinned, metrics: { psnr: 1 } } })).toBeNull();
+  });
+
+  it('accepts comparisons with and without a common size', () => {
+    const c = {
+      type: 'comparison', source: src, runId: 5, step: 40, comparable: true, note: null,
+      pinned: { psnr: 27.5, ssim: 0.81, tv: 12 }, current: { psnr: 28, ssim: 0.83, tv: 11 }, delta: { psnr: 0.5, ssim: 0.02, tv: -1 }, between: { psnr: 35, ssim: 0.97 },
+    };
+    expect(validateToPreview(c)).toEqual(c);
+    const apart = { ...c, comparable: false, note: 'sizes differ', current: { psnr: null, ssim: null, tv: 3 }, delta: { psnr: null, ssim: null, tv: -9 }, between: null };
+    expect(validateToPreview(apart)).toEqual(apart);
+    expect(validateToPreview({ ...c, between: { psnr: 1 } })).toBeNull();
+    expect(validateToPreview({ ...c, comparable: 'yes' })).toBeNull();
+    expect(validateToPreview({ ...c, delta: undefined })).toBeNull();
   });
 });
 

@@ -10,12 +10,14 @@ import { createRun } from '../../../src/engine';
 import { EngineWorker } from '../../../src/engine/worker/workerClient';
 import { makeScene } from '../../../src/images/scenes';
 import { parseAndCheck } from '../../../src/notation';
-import { AnalysisClient } from '../../../src/extension/preview/analysisClient';
+import { AnalysisClient, SplitAnalysis } from '../../../src/extension/preview/analysisClient';
+import { computeInfluence } from '../../../src/extension/preview/analysisCompute';
 import { PreviewSession } from '../../../src/extension/preview/session';
 import type { ToPreview } from '../../../src/protocol/preview';
 
 const ROOT = join(__dirname, '../../..');
-const analysis = new AnalysisClient();
+// As in the panel: the influence maps on a second thread.
+const analysis = new SplitAnalysis(new AnalysisClient(), () => new AnalysisClient());
 afterAll(() => analysis.dispose());
 
 function open(text: string, size: number, maxPreviewSize: number) {
@@ -48,6 +50,9 @@ function open(text: string, size: number, maxPreviewSize: number) {
 const isEnded = (m: ToPreview.Type): m is ToPreview.RunEnded => m.type === 'runEnded';
 const isVerdict = (m: ToPreview.Type): m is ToPreview.Verdict => m.type === 'verdict';
 const isWeights = (m: ToPreview.Type): m is ToPreview.Weights => m.type === 'weights';
+const isInfluence = (m: ToPreview.Type): m is ToPreview.Influence => m.type === 'influence';
+const isSpectrum = (m: ToPreview.Type): m is ToPreview.Spectrum => m.type === 'spectrum';
+const isApproximates = (m: ToPreview.Type): m is ToPreview.Approximates => m.type === 'approximates';
 
 describe('live run with the real engine', () => {
   it('streams frames that change the picture; weights come from the full-resolution state', async () => {
@@ -90,6 +95,25 @@ describe('live run with the real engine', () => {
     const updateLine = text.split('\n').findIndex((l) => l.startsWith("u' =")) + 1;
     expect(findings[0].finding.range.start.line).toBe(updateLine);
     expect(findings[0].finding.step).toBeGreaterThan(0);
+    session.dispose();
+  });
+
+  it('sends the frequency map, the summary and an influence map from the analysis threads', async () => {
+    const text = readFileSync(join(ROOT, 'examples/edge-preserving.fluxel'), 'utf8').replace(/^steps \d+$/m, 'steps 12');
+    const { session, next } = open(text, 48, 24);
+    const ended = await next(isEnded);
+    const m = await next(isSpectrum);
+    expect(m.amp.length).toBe(m.cols * m.rows);
+    expect((await next(isApproximates)).text).toMatch(/^approximates u_t = /);
+    await session.handle({ type: 'requestInfluence', source: 'file:///w/s.fluxel', runId: ended.runId, step: 12, x: 20, y: 21 });
+    const got = await next(isInfluence);
+    // The same replay and adjoint sweep in-process give the same map.
+    const scheme = parseAndCheck(text).scheme!;
+    const scene = makeScene('survey', { width: 48, height: 48, noise: 0.1, seed: 7 });
+    const want = computeInfluence({ text, knobs: { values: Object.fromEntries(scheme.params.map((p) => [p.name, p.value])), dt: scheme.dt }, image: scene.noisy, width: 48, height: 48, steps: 12, x: 20, y: 21, field: 'u' });
+    expect([got.x0, got.y0, got.width, got.height, got.steps]).toEqual([want.x0, want.y0, want.width, want.height, 12]);
+    expect(Array.from(got.data)).toEqual(Array.from(want.data));
+    expect(got.sum).toBeCloseTo(1, 5);
     session.dispose();
   });
 });

@@ -13,6 +13,8 @@ import { PreviewSession, type EngineLike, type FitJob, type FitOutcome, type Ses
 import type { BackendChoice } from '../../../src/engine/wasm/select';
 import type { InputChoice, ToPreview } from '../../../src/protocol/preview';
 import { makeMask } from '../../../src/images/inputs';
+import { compareResult, computeApproximates, computeInfluence, computeSpectrum } from '../../../src/extension/preview/analysisCompute';
+import { SUPERSEDED } from '../../../src/extension/preview/analysisProtocol';
 
 const SCHEME = [
   'grid 2d',
@@ -64,11 +66,12 @@ function stats(step: number): FrameStats {
   return { step, t: step * 0.2, fields: { u: { min: 0, max: 1, mean: 0.5 } }, psnr: 20 + step };
 }
 
-function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown; backend?: BackendChoice; fit?: SessionEnv['fit']; accept?: boolean; readImage?: SessionEnv['readImage']; named?: unknown } = {}) {
+function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown; backend?: BackendChoice; fit?: SessionEnv['fit']; accept?: boolean; pinned?: unknown; influence?: AnalysisService['influence']; readImage?: SessionEnv['readImage']; named?: unknown } = {}) {
   const posted: ToPreview.Type[] = [];
   const runs: FakeRun[] = [];
   const engines: FakeEngine[] = [];
   const weightsCalls: Parameters<AnalysisService['weights']>[0][] = [];
+  const influenceCalls: Parameters<AnalysisService['influence']>[0][] = [];
   const analysis: AnalysisService = {
     verdict: async (_t, knobs) => ({
       verdict: { method: 'positivity', limit: 0.25, dt: knobs.dt, stable: knobs.dt <= 0.25, reason: 'r', estimate: false, unconditional: false, positivityLimit: null, diffusionLimit: null },
@@ -81,6 +84,10 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
     impulse: async (_t, _k, steps) => ({ steps, t: steps * 0.2, sigma: [1, 1], heatSigma: 1, sum: 1, truncated: false }),
     scene: async (_name, _noise, _seed, size) => ({ noisy: { width: size, height: size, data: new Float32Array(size * size).fill(0.5) }, clean: { width: size, height: size, data: new Float32Array(size * size) } }),
     decode: async () => ({ width: 1, height: 1, data: new Float32Array(1) }),
+    compare: async (result, reference, pinned) => compareResult(result, reference, pinned),
+    spectrum: async (text, knobs, at) => computeSpectrum(text, knobs, at),
+    approximates: async (text, knobs, at) => computeApproximates(text, knobs, at),
+    influence: async (req) => { influenceCalls.push(req); return opts.influence ? opts.influence(req) : computeInfluence(req); },
     dispose: async () => undefined,
   };
   const edits: { edits: unknown; text: string }[] = [];
@@ -89,6 +96,7 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
   const rememberedKnobs: unknown[] = [];
   const rememberedNamed: unknown[] = [];
   const offers: string[] = [];
+  const rememberedPinned: unknown[] = [];
   const env: SessionEnv = {
     source: 'file:///w/a.fluxel',
     fileName: 'a.fluxel',
@@ -110,11 +118,13 @@ function setup(opts: { debounceMs?: number; input?: InputChoice; knobs?: unknown
     pickImage: async () => 'file:///w/pic.png',
     applyEdits: async (e, text) => { edits.push({ edits: e, text }); return true; },
     reveal: (r) => revealed.push(r),
+    recallPinned: () => opts.pinned,
+    rememberPinned: (p) => rememberedPinned.push(p),
     ...(opts.fit ? { fit: opts.fit, offerWrite: async (summary: string) => { offers.push(summary); return opts.accept ?? false; } } : {}),
   };
   const session = new PreviewSession(env);
   const of = <T extends ToPreview.Type['type']>(type: T) => posted.filter((m): m is Extract<ToPreview.Type, { type: T }> => m.type === type);
-  return { session, posted, runs, engines, weightsCalls, edits, revealed, remembered, rememberedKnobs, rememberedNamed, offers, of };
+  return { session, posted, runs, engines, weightsCalls, influenceCalls, edits, revealed, remembered, rememberedKnobs, rememberedNamed, rememberedPinned, offers, of };
 }
 
 /** Lets pending promise callbacks run (no timers involved). */
@@ -352,7 +362,7 @@ describe('live run session', async () => {
     const n = posted.length;
     await session.handle({ type: 'ready', source: 'file:///w/a.fluxel' });
     const replayed = posted.slice(n).map((m) => m.type);
-    expect(replayed).toEqual(['scheme', 'runStarted', 'frame', 'finding', 'verdict', 'impulse', 'runEnded']);
+    expect(replayed).toEqual(['scheme', 'runStarted', 'frame', 'finding', 'verdict', 'impulse', 'approximates', 'spectrum', 'runEnded']);
     expect(of('runEnded')[0]).toMatchObject({ status: 'done', stepsDone: 4 });
   });
 
@@ -553,5 +563,200 @@ describe('named inputs and channels in the live run', () => {
     runs[0].cb.onFrame?.(stats(0), { u: snapshot(2, 1, () => 1), g: snapshot(2, 1, () => 0), b: snapshot(2, 1, () => 0.5) });
     const frame = of('frame')[0];
     expect(frame.colour).toEqual({ red: Float32Array.of(1, 1), green: Float32Array.of(0, 0), blue: Float32Array.of(0.5, 0.5) });
+  });
+});
+
+describe('A/B: a pinned result', () => {
+  const src = 'file:///w/a.fluxel';
+  // A 32×32 run: step 0 is flat 0.5 (the fake scene), step 1 a ramp; the fake clean reference is all zeros.
+  const ramp = (i: number) => (i % 32) / 31;
+  async function ranOnce(opts: Parameters<typeof setup>[0] = {}, w = 32, hgt = 32) {
+    const t = setup(opts);
+    t.session.documentChanged(SCHEME);
+    await settle();
+    const run = t.runs.at(-1) as FakeRun;
+    run.cb.onFrame?.(stats(0), { u: snapshot(w, hgt, () => 0.5) });
+    run.cb.onFrame?.(stats(1), { u: snapshot(w, hgt, ramp) });
+    run.resolve({ result: { status: 'done', stepsDone: 1, steps: 1, dt: 0.2, params: {}, dtype: 'float32', backend: 'js', stepSeconds: 0, frames: [], warnings: [] }, fields: {} });
+    await settle();
+    return t;
+  }
+
+  it('pins the shown field at a step at full resolution, with its metrics, and posts it at the preview size', async () => {
+    const t = await ranOnce();
+    const runId = t.session.currentRunId as number;
+    await t.session.handle({ type: 'pin', source: src, runId, step: 1 });
+    await settle();
+    const b = t.of('baseline').at(-1);
+    expect(b?.pinned).toMatchObject({ step: 1, field: 'u', fullWidth: 32, fullHeight: 32, width: 16, height: 16 });
+    expect(b?.pinned?.label).toMatch(/^step 1 · K = 0\.5, dt = 0\.2 · survey tile, noise 0\.1, seed 7$/);
+    // Against the all-zero reference: MSE = mean of ramp², PSNR = −10·log10(MSE) (numerics.md "Metrics").
+    let mse = 0;
+    for (let i = 0; i < 1024; i++) mse += Math.fround(ramp(i)) ** 2 / 1024;
+    expect(b?.pinned?.metrics.psnr).toBeCloseTo(-10 * Math.log10(mse), 9);
+    // TV of a horizontal ramp of 32 columns: 31 steps of 1/31 per row, 32 rows (worked by hand, common practice).
+    expect(b?.pinned?.metrics.tv).toBeCloseTo(32, 4);
+    expect(t.rememberedPinned.at(-1)).toMatchObject({ version: 1, step: 1, width: 32, height: 32 });
+  });
+
+  it('keeps the pin across edits and new runs, and compares the new run with it', async () => {
+    const t = await ranOnce();
+    await t.session.handle({ type: 'pin', source: src, runId: t.session.currentRunId as number, step: 1 });
+    t.session.documentChanged(SCHEME.replace('K = 0.5', 'K = 0.25'));
+    await settle();
+    const run = t.runs.at(-1) as FakeRun;
+    run.cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0.5) });
+    run.cb.onFrame?.(stats(1), { u: snapshot(32, 32, (i) => ramp(i) * 0.5) });
+    await t.session.handle({ type: 'requestComparison', source: src, runId: t.session.currentRunId as number, step: 1 });
+    const c = t.of('comparison').at(-1);
+    expect(c).toMatchObject({ comparable: true, note: null, step: 1 });
+    expect(c?.current.tv).toBeCloseTo(16, 4);
+    expect(c?.pinned.tv).toBeCloseTo(32, 4);
+    expect(c?.delta.tv).toBeCloseTo(-16, 4);
+    expect(c?.delta.psnr).toBeCloseTo((c?.current.psnr as number) - (c?.pinned.psnr as number), 12);
+    // Current against pinned: differences ramp/2, so MSE = mean(ramp²)/4.
+    let mse = 0;
+    for (let i = 0; i < 1024; i++) mse += (Math.fround(ramp(i)) - Math.fround(ramp(i) * 0.5)) ** 2 / 1024;
+    expect(c?.between?.psnr).toBeCloseTo(-10 * Math.log10(mse), 6);
+    expect(c?.between?.ssim).toBeGreaterThan(0);
+    expect(c?.between?.ssim).toBeLessThan(1);
+    expect(t.of('baseline').length).toBe(1);
+  });
+
+  it('comes back in a new session from the per-file memory (a reloaded or re-shown panel), and unpin forgets it', async () => {
+    const first = await ranOnce();
+    await first.session.handle({ type: 'pin', source: src, runId: first.session.currentRunId as number, step: 1 });
+    const stored = first.rememberedPinned.at(-1);
+    first.session.dispose();
+    const second = await ranOnce({ pinned: JSON.parse(JSON.stringify(stored)) });
+    await second.session.handle({ type: 'ready', source: src });
+    const b = second.of('baseline').at(-1);
+    expect(b?.pinned?.step).toBe(1);
+    expect(b?.pinned?.data[3]).toBeCloseTo((3 * 2 + 0.5) / 31, 5); // 2×2 block mean of the ramp at columns 6, 7
+    await second.session.handle({ type: 'unpin', source: src });
+    expect(second.of('baseline').at(-1)?.pinned).toBeNull();
+    expect(second.rememberedPinned.at(-1)).toBeNull();
+    await second.session.handle({ type: 'requestComparison', source: src, runId: second.session.currentRunId as number, step: 1 });
+    expect(second.of('comparison').length).toBe(0);
+  });
+
+  it('ignores a damaged stored pin, and shows pins of another size side by side only', async () => {
+    const damaged = await ranOnce({ pinned: { version: 1, label: 'x', step: 1, t: 0.2, field: 'u', width: 4, height: 4, values: 'AAAA', metrics: { psnr: 1, ssim: null, tv: 2 }, pinnedAt: 'now' } });
+    await damaged.session.handle({ type: 'ready', source: src });
+    expect(damaged.of('baseline').length).toBe(0);
+    const t = await ranOnce({ input: { kind: 'file', uri: 'file:///w/pic.png' } }, 8, 4);
+    await t.session.handle({ type: 'pin', source: src, runId: t.session.currentRunId as number, step: 0 });
+    expect(t.of('baseline').at(-1)?.pinned?.fullWidth).toBe(8);
+    await t.session.handle({ type: 'setInput', source: src, input: { kind: 'scene', scene: 'card', noise: 0, seed: 1 } });
+    await settle();
+    const run = t.runs.at(-1) as FakeRun;
+    run.cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0.5) });
+    await t.session.handle({ type: 'requestComparison', source: src, runId: t.session.currentRunId as number, step: 0 });
+    const c = t.of('comparison').at(-1);
+    expect(c).toMatchObject({ comparable: false, between: null });
+    expect(c?.note).toMatch(/8×4.*32×32/);
+    // The file input has no clean reference: the pinned side has TV only.
+    expect(c?.pinned).toMatchObject({ psnr: null, ssim: null });
+  });
+});
+
+describe('what the scheme approximates, its frequency map, its influence map and per-step measures', () => {
+  const src = 'file:///w/a.fluxel';
+
+  it('posts the modified-equation summary and the frequency map with every run, for the knob values of that run', async () => {
+    const t = setup();
+    t.session.documentChanged(SCHEME);
+    await settle();
+    const a = t.of('approximates').at(-1);
+    // u' = u + dt·K·Σ_N4 (u[n] − u) with h = 1 approximates u_t = K·Δu (5-point Laplacian; common practice).
+    expect(a?.runId).toBe(t.session.currentRunId);
+    expect(a?.text).toMatch(/0\.5·Δu/);
+    const m = t.of('spectrum').at(-1);
+    expect(m).toMatchObject({ dims: 2, runId: t.session.currentRunId });
+    // G(θ) = 1 − 4·dt·K·(sin²(θx/2) + sin²(θy/2)) (von Neumann analysis of the 5-point heat scheme, common
+    // practice): with dt·K = 0.1 the smallest |G| is 1 − 0.8 = 0.2 at (π, π) and the largest 1 at θ = 0.
+    expect(m?.peak.value).toBeCloseTo(1, 9);
+    expect(m?.lo).toBeCloseTo(0.2, 6);
+    expect(m?.edge).toEqual([]);
+    // Moving K to 1 with dt 0.3 puts dt·K over 1/4: |G(π, π)| = |1 − 2.4| = 1.4 and the stable edge appears.
+    await t.session.handle({ type: 'setKnobs', source: src, values: { K: 1 }, dt: 0.3 });
+    await settle();
+    const over = t.of('spectrum').at(-1);
+    expect(over?.runId).toBe(t.session.currentRunId);
+    expect(over?.peak.value).toBeCloseTo(1.4, 9);
+    expect(over?.edge.length).toBeGreaterThan(0);
+    expect(t.of('approximates').at(-1)?.text).toMatch(/1·Δu/);
+  });
+
+  it('answers an influence request from the run\'s own input, at full resolution, for the picked pixel and step', async () => {
+    const t = setup({ input: { kind: 'file', uri: 'file:///w/pic.png' } });
+    t.session.documentChanged(SCHEME);
+    await settle();
+    const run = t.runs.at(-1) as FakeRun;
+    for (let k = 0; k <= 2; k++) run.cb.onFrame?.(stats(k), { u: snapshot(8, 4, () => 0.25) });
+    const runId = t.session.currentRunId as number;
+    await t.session.handle({ type: 'requestInfluence', source: src, runId, step: 2, x: 3, y: 1 });
+    expect(t.influenceCalls[0]).toMatchObject({ steps: 2, x: 3, y: 1, field: 'u', width: 8, height: 4, knobs: { values: { K: 0.5 }, dt: 0.2 } });
+    expect(t.influenceCalls[0].image?.width).toBe(8);
+    const m = t.of('influence').at(-1);
+    // Two steps of a 5-point stencil reach two cells in each direction (clipped by the 8×4 grid's edges).
+    expect(m).toMatchObject({ runId, step: 2, x: 3, y: 1, steps: 2, field: 'u', x0: 1, y0: 0, width: 5, height: 4 });
+    // A scheme that keeps constants, with reflecting boundaries: the weights sum to 1 (common practice).
+    expect(m?.sum).toBeCloseTo(1, 6);
+    // Other runs' requests and step 0 get no map.
+    await t.session.handle({ type: 'requestInfluence', source: src, runId: runId + 5, step: 2, x: 3, y: 1 });
+    await t.session.handle({ type: 'requestInfluence', source: src, runId, step: 0, x: 3, y: 1 });
+    expect(t.of('influence').length).toBe(1);
+    expect(t.of('notice').at(-1)?.text).toMatch(/step after the start/);
+  });
+
+  it('freezes the summary\'s coefficients at a picked pixel of the full-resolution state at that step', async () => {
+    const edge = SCHEME.replace("u' = u + dt * K * sum n in N4: u[n] - u", "u' = u + dt * sum n in N4: (u[n] - u) / (1 + ((u[n] - u) / K)^2)");
+    const t = setup();
+    t.session.documentChanged(edge);
+    await settle();
+    expect(t.of('approximates').at(-1)?.details.at(-1)).toMatch(/of a flat state/);
+    const run = t.runs.at(-1) as FakeRun;
+    run.cb.onFrame?.(stats(0), { u: snapshot(32, 32, (i) => (i % 32 < 16 ? 0 : 1)) });
+    run.cb.onFrame?.(stats(1), { u: snapshot(32, 32, (i) => (i % 32 < 16 ? 0 : 1)) });
+    await t.session.handle({ type: 'pickPixel', source: src, runId: t.session.currentRunId as number, step: 1, x: 15, y: 4 });
+    await settle();
+    const a = t.of('approximates').at(-1);
+    expect(a?.details.at(-1)).toMatch(/^Frozen coefficients at \(15, 4\) of the run's state at step 1/);
+    // Across the step edge the diffusivity 1/(1 + (1/K)²) = 0.2 (K = 0.5) weakens the x-direction: no longer isotropic.
+    expect(a?.text).toMatch(/anisotropic/);
+    // The frequency map follows the pixel too.
+    expect(t.of('spectrum').at(-1)?.note).toMatch(/frozen coefficients at \(15, 4\) of the run's state at step 1/);
+  });
+
+  it('drops an influence map superseded by a newer request silently, and reports other failures', async () => {
+    let fail = SUPERSEDED;
+    const t = setup({ influence: async () => { throw new Error(fail); } });
+    t.session.documentChanged(SCHEME);
+    await settle();
+    const run = t.runs.at(-1) as FakeRun;
+    run.cb.onFrame?.(stats(0), { u: snapshot(32, 32, () => 0) });
+    run.cb.onFrame?.(stats(1), { u: snapshot(32, 32, () => 0) });
+    const runId = t.session.currentRunId as number;
+    await t.session.handle({ type: 'requestInfluence', source: src, runId, step: 1, x: 3, y: 3 });
+    expect(t.of('notice').length).toBe(0);
+    fail = 'keeping 9000 states needs too much';
+    await t.session.handle({ type: 'requestInfluence', source: src, runId, step: 1, x: 3, y: 3 });
+    expect(t.of('notice').at(-1)).toMatchObject({ level: 'error', text: 'The influence map of (3, 3) could not be computed: keeping 9000 states needs too much' });
+  });
+
+  it('passes the engine\'s per-step measures of the shown field on with its frames', async () => {
+    const t = setup();
+    t.session.documentChanged(SCHEME);
+    await settle();
+    const run = t.runs.at(-1) as FakeRun;
+    const st = (step: number): FrameStats => ({ step, t: step * 0.2, fields: { u: { min: 0, max: 1, mean: 0.5, drift: 1e-8, tv: 10 - step, energy: 3, ...(step ? { change: { rms: 0.01, max: 0.1 } } : {}) } } });
+    run.cb.onFrame?.(st(0), { u: snapshot(32, 32, () => 0) });
+    run.cb.onFrame?.(st(1), { u: snapshot(32, 32, () => 0) });
+    const [f0, f1] = t.of('frame');
+    expect(f0.measures).toEqual({ drift: 1e-8, tv: 10, energy: 3, changeRms: null, changeMax: null });
+    expect(f1.measures).toEqual({ drift: 1e-8, tv: 9, energy: 3, changeRms: 0.01, changeMax: 0.1 });
+    run.cb.onFrame?.(stats(2), { u: snapshot(32, 32, () => 0) });
+    expect(t.of('frame').at(-1)?.measures).toBeUndefined();
   });
 });

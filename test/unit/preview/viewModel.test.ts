@@ -3,10 +3,11 @@
 
 import { describe, expect, it } from 'vitest';
 import type { ToPreview, WireVerdict } from '../../../src/protocol/preview';
-import { divergingTable } from '../../../media/preview/colour';
+import { divergingTable, sequentialTable } from '../../../media/preview/colour';
 import {
   changeScale, findingText, fitText, fitTransform, fmt, FrameStore, framePixelAt, framePixelOf, fullPixel, greyWindow, keyAction, knobSpan, paint, paintRgb, panBy,
   seriesOf, seriesSummary, sliderFromValue, SLIDER_STEPS, spaceTimeRepeat, stepLabel, valueFromSlider, verdictLabel, weightRows, zoomAt,
+  betweenText, comparisonRows, fmtAngle, influenceText, isotropySeries, measureSeriesOf, paintInfluence, paintSpectrum, spectrumText, thetaToScreen,
 } from '../../../media/preview/viewModel';
 
 const src = 'file:///a.fluxel';
@@ -228,4 +229,76 @@ describe('paintRgb (the colour view of schemes binding image.red, .green, .blue)
     paintRgb(out, Float32Array.of(1, -0.5, NaN), Float32Array.of(0.5, 2, 0), Float32Array.of(0, 0.25, 0));
     expect(Array.from(out)).toEqual([255, 128, 0, 255, 0, 255, 64, 255, 255, 0, 255, 255]);
   });
+});
+
+describe('frequency map, influence map, per-step measures and A/B labels', () => {
+  const seq = sequentialTable();
+  it('paints |G| through the sequential map over the colour-bar range, θy upwards, non-finite values marked', () => {
+    // 3 columns × 2 rows; row 0 of the grid is θy = −π, so it is painted as the bottom row.
+    const amp = new Float32Array([0, 0.5, 1, 2, NaN, 0.25]);
+    const out = new Uint8ClampedArray(6 * 4);
+    paintSpectrum(out, amp, 3, 2, 0, 1, seq);
+    const rgb = (i: number) => [out[i * 4], out[i * 4 + 1], out[i * 4 + 2]];
+    // Top screen row = grid row 1: 2 (clamped to hi), NaN, 0.25.
+    expect(rgb(0)).toEqual([seq[765], seq[766], seq[767]]);
+    expect(rgb(1)).toEqual([255, 0, 255]);
+    expect(rgb(2)).toEqual([seq[64 * 3], seq[64 * 3 + 1], seq[64 * 3 + 2]]);
+    // Bottom screen row = grid row 0: lo, middle, hi.
+    expect(rgb(3)).toEqual([seq[0], seq[1], seq[2]]);
+    expect(rgb(4)).toEqual([seq[128 * 3], seq[128 * 3 + 1], seq[128 * 3 + 2]]);
+    expect(rgb(5)).toEqual([seq[765], seq[766], seq[767]]);
+    expect(Array.from({ length: 6 }, (_, i) => out[i * 4 + 3])).toEqual([255, 255, 255, 255, 255, 255]);
+  });
+
+  it('places frequencies at the centres of their cells, θy upwards when flipped', () => {
+    // 5 samples over [−π, π] drawn 100 px wide: cells of 20 px, θ = −π at 10, 0 at 50, π at 90.
+    expect(thetaToScreen(-Math.PI, 5, 100)).toBeCloseTo(10, 12);
+    expect(thetaToScreen(0, 5, 100)).toBeCloseTo(50, 12);
+    expect(thetaToScreen(Math.PI, 5, 100)).toBeCloseTo(90, 12);
+    expect(thetaToScreen(Math.PI, 5, 100, true)).toBeCloseTo(10, 12);
+    expect(thetaToScreen(-Math.PI / 2, 5, 100, true)).toBeCloseTo(70, 12);
+  });
+
+  it('names the peak of |G| with angles as multiples of π, and turns the isotropy curve into degrees and percent', () => {
+    expect(spectrumText({ dims: 2, peak: { value: 1.6, theta: [Math.PI, -Math.PI] } })).toBe('largest |G| 1.6 at θ = (π, −π)');
+    expect(spectrumText({ dims: 1, peak: { value: 1, theta: [0] } })).toBe('largest |G| 1 at θ = 0');
+    expect(fmtAngle(1.2)).toBe('1.2');
+    const iso = isotropySeries({ radius: Math.PI / 2, angles: [0, Math.PI / 4, Math.PI], error: [0.0123, -0.5, 0] });
+    expect(iso.degrees.map((d) => Math.round(d * 1e9) / 1e9)).toEqual([0, 45, 180]);
+    expect(iso.percent.map((p) => Math.round(p * 1e9) / 1e9)).toEqual([1.23, -50, 0]);
+  });
+
+  it('paints an influence map transparent where a pixel has no influence and opaque at the largest weight', () => {
+    const table = divergingTable(true);
+    const out = new Uint8ClampedArray(4 * 4);
+    paintInfluence(out, new Float32Array([0, 0.25, -1, 1]), 1, table);
+    expect([out[3], out[7], out[11], out[15]]).toEqual([0, 128, 255, 255]);
+    expect([out[8], out[9], out[10]]).toEqual([table[0], table[1], table[2]]);
+    expect([out[12], out[13], out[14]]).toEqual([table[765], table[766], table[767]]);
+    expect(influenceText({ field: 'u', x: 3, y: 4, step: 10, steps: 10, sum: 1, peak: 0.0625 })).toBe('influence of the input on u at (3, 4), step 10 (10 steps): sum 1, largest 0.0625');
+  });
+
+  it('charts per-step measures only when frames carry them, with gaps for missing or non-finite values', () => {
+    const f0 = frame(1, 0);
+    expect(measureSeriesOf([f0])).toBeNull();
+    const m = (changeRms: number | null, tv: number) => ({ drift: 0, tv, energy: tv / 2, changeRms, changeMax: changeRms });
+    const s = measureSeriesOf([{ ...f0, measures: m(null, 10) }, { ...frame(1, 1), measures: m(0.01, 8) }, { ...frame(1, 2), measures: m(NaN, 7) }]);
+    expect(s).toEqual({ steps: [0, 1, 2], drift: [0, 0, 0], tv: [10, 8, 7], energy: [5, 4, 3.5], changeRms: [null, 0.01, null], changeMax: [null, 0.01, null] });
+  });
+
+  it('lays out the A/B table with signed deltas, marking higher PSNR and SSIM as better and TV as neither', () => {
+    const rows = comparisonRows({ pinned: { psnr: 27.5, ssim: 0.8, tv: 1200 }, current: { psnr: 28.25, ssim: 0.79, tv: 1100 }, delta: { psnr: 0.75, ssim: -0.01, tv: -100 } });
+    expect(rows).toEqual([
+      { metric: 'PSNR', pinned: '27.5 dB', now: '28.25 dB', delta: '+0.75 dB', better: true },
+      { metric: 'SSIM', pinned: '0.8', now: '0.79', delta: '−0.01', better: false },
+      { metric: 'TV', pinned: '1200', now: '1100', delta: '−100', better: null },
+    ]);
+    const none = comparisonRows({ pinned: { psnr: null, ssim: null, tv: 3 }, current: { psnr: null, ssim: null, tv: 3 }, delta: { psnr: null, ssim: null, tv: 0 } });
+    expect(none.map((r) => [r.pinned, r.delta, r.better])).toEqual([['–', '–', null], ['–', '–', null], ['3', '0', null]]);
+    expect(betweenText({ step: 5, note: null, between: { psnr: 41.5, ssim: 0.99 } })).toBe('now (step 5) against pinned: PSNR 41.5 dB, SSIM 0.99');
+    expect(betweenText({ step: 5, note: null, between: { psnr: Infinity, ssim: NaN } })).toMatch(/PSNR ∞ dB, SSIM n\/a/);
+    expect(betweenText({ step: 5, note: 'sizes differ', between: null })).toBe('sizes differ');
+  });
+
+  it('has a key for the influence view', () => expect(keyAction('i')).toEqual({ kind: 'view', mode: 'influence' }));
 });
