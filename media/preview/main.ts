@@ -385,7 +385,9 @@ function draw(): void {
     ctx.lineWidth = 2;
     ctx.strokeStyle = getComputedStyle(document.body).getPropertyValue('--vscode-focusBorder').trim() || '#0a84ff';
     ctx.strokeRect(cx - size / 2 - 1, cy - size / 2 - 1, size + 2, size + 2);
-  }
+    // Where the ring is, in CSS pixels of the canvas (for tests that read the picture around it after a re-layout).
+    document.body.dataset.pickAt = `${cx.toFixed(1)},${cy.toFixed(1)}`;
+  } else delete document.body.dataset.pickAt;
   canvas.setAttribute('aria-label', `${f.wrt !== undefined ? `derivative ∂${f.field}/∂${f.wrt}` : `${state.view} view of ${f.field}`}, ${stepLabel(f.step, s.steps, f.t)}; min ${fmt(f.stats.min)}, max ${fmt(f.stats.max)}, mean ${fmt(f.stats.mean)}`);
 }
 

@@ -52,7 +52,7 @@ function register(): void {
 
   test('a pinned result survives an edit of the file and is compared with the new run', async () => {
     const editor = await openWithLiveRun('heat-ab.fluxel', heatScheme('0.1'));
-    const pinned = await probe<Facts>('liverun', JSON.stringify({ action: 'pin' }));
+    const pinned = await probe<Facts>('liverun', JSON.stringify({ action: 'pin', step: 40 }));
     assert.equal(pinned.pinned, '40', 'the last step is pinned');
     // Change the scheme: a larger step smooths more in the same 40 steps.
     const edit = new vscode.WorkspaceEdit();

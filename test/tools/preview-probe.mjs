@@ -260,10 +260,14 @@ export async function liveRunProbe(page, extra, outDir) {
         return Array.from(c.getContext('2d').getImageData(x0, y0, w, h).data);
       }, [cx, cy, r]);
       const R = 24;
-      const over = await region(at.x, at.y, R);
+      // The ring's place now: the panel may have re-laid out (and re-fitted the picture) since the click.
+      const ringAt = (x) => (x.pickAt ? x.pickAt.split(',').map(Number) : [at.x, at.y]);
+      const [ox, oy] = ringAt(await facts(f));
+      const over = await region(ox, oy, R);
       await picture.press('s');
-      await pollFor(page, 'the start view', async () => (await facts(f)).view === 'start');
-      const plain = await region(at.x, at.y, R);
+      const startFacts = await pollFor(page, 'the start view', async () => { const x = await facts(f); return x.view === 'start' ? x : null; });
+      const [px, py] = ringAt(startFacts);
+      const plain = await region(px, py, R);
       await picture.press('i');
       await pollFor(page, 'the influence view again', async () => (await facts(f)).view === 'influence');
       let diff = 0, coloured = 0;
@@ -279,7 +283,7 @@ export async function liveRunProbe(page, extra, outDir) {
           const c = document.querySelector('canvas.picture');
           const r = c.getBoundingClientRect();
           for (let k = 0; k < n; k++) c.dispatchEvent(new WheelEvent('wheel', { deltaY: -100, clientX: r.left + x, clientY: r.top + y, bubbles: true, cancelable: true }));
-        }, [at.x, at.y, req.zoom]);
+        }, [ox, oy, req.zoom]);
       }
       if (req.zoom) await page.waitForTimeout(300);
       let shot = null;
@@ -293,7 +297,8 @@ export async function liveRunProbe(page, extra, outDir) {
     }
     case 'pin': {
       // Pins the shown step (the last one of a finished run) as the A/B baseline.
-      await pollFor(page, 'a finished run', async () => (await facts(f)).status === 'done');
+      // With req.step, also wait until that step is the one shown (a rerun may still be on its way in).
+      await pollFor(page, 'a finished run', async () => { const x = await facts(f); return x.status === 'done' && (req.step === undefined || x.step === String(req.step)); });
       await f.locator('button', { hasText: 'pin this step' }).first().click();
       return pollFor(page, 'the pinned result', async () => {
         const x = await facts(f);
