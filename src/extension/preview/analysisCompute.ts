@@ -189,10 +189,10 @@ export function computeApproximates(text: string, knobs: KnobSet, at?: FrozenAt)
  * replayed from its input at full resolution in Float32 (the live run's precision) to get the states it passed
  * through, then the adjoint sweep runs over them. The result is cropped to the box of non-zero weights.
  */
-export function computeInfluence(req: { text: string; knobs: KnobSet; image: Picture | null; width: number; height: number; steps: number; x: number; y: number; field: string }): InfluenceResult {
+export function computeInfluence(req: { text: string; knobs: KnobSet; image: Picture | null; fieldImages?: Readonly<Record<string, Picture>>; width: number; height: number; steps: number; x: number; y: number; field: string }): InfluenceResult {
   const scheme = schemeWithKnobs(req.text, req.knobs);
   const traj = recordTrajectory(scheme, req.steps, {
-    ...(req.image ? { image: req.image } : { width: req.width, height: req.height }),
+    ...(req.image ? { image: req.image, ...(req.fieldImages ? { fieldImages: req.fieldImages } : {}) } : { width: req.width, height: req.height }),
     params: req.knobs.values, dt: req.knobs.dt, dtype: 'float32',
   });
   const m = influenceMap(scheme, traj.states, { x: req.x, y: req.y, field: req.field }, { params: req.knobs.values, dt: req.knobs.dt });

@@ -65,6 +65,8 @@ export namespace ToAnalysis {
     readonly text: string;
     readonly knobs: KnobSet;
     readonly image: Picture | null;
+    /** Per-field pictures (named inputs and channels, as the run bound them); absent: every image field reads `image`. */
+    readonly fieldImages?: Readonly<Record<string, Picture>>;
     readonly width: number;
     readonly height: number;
     readonly steps: number;

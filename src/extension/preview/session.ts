@@ -231,6 +231,8 @@ interface LiveRun {
   readonly reference: GreyPicture | null;
   /** The input picture the run started from (fields `= image`), or null. */
   readonly image: GreyPicture | null;
+  /** The pictures bound per field (named inputs, channels), or null. */
+  readonly fieldImages: Record<string, GreyPicture> | null;
   spectrum: ToPreview.Spectrum | null;
   approximates: ToPreview.Approximates | null;
   /** The run's knob values and input in words, for the label of a pinned result. */
@@ -575,7 +577,7 @@ export class PreviewSession {
     const knobWords = [...Object.entries(knobs.values).map(([k, v]) => `${k} = ${Number(v.toPrecision(4))}`), `dt = ${Number(knobs.dt.toPrecision(4))}`].join(', ');
     const run: LiveRun = {
       runId, text: g.text, scheme: s, knobs, started, shrink, handle: null, engine: null, frames: [], findings: [], ended: null,
-      verdict: null, impulse: null, reference: needsImage ? reference : null, image: needsImage ? image : null, spectrum: null, approximates: null, label: needsImage ? `${knobWords} · ${inputLabel(input)}` : knobWords,
+      verdict: null, impulse: null, reference: needsImage ? reference : null, image: needsImage ? image : null, fieldImages, spectrum: null, approximates: null, label: needsImage ? `${knobWords} · ${inputLabel(input)}` : knobWords,
       stepMs: NaN, launchedAt: NaN,
     };
     this.run = run;
@@ -985,7 +987,7 @@ export class PreviewSession {
     }
     try {
       const m = await this.env.analysis.influence({
-        text: r.text, knobs: r.knobs, image: r.image, width: r.started.width, height: r.started.height, steps: msg.step, x: msg.x, y: msg.y, field: name,
+        text: r.text, knobs: r.knobs, image: r.image, ...(r.fieldImages ? { fieldImages: r.fieldImages } : {}), width: r.started.width, height: r.started.height, steps: msg.step, x: msg.x, y: msg.y, field: name,
       });
       if (this.run !== r) return;
       this.env.post({ type: 'influence', source: this.env.source, runId: r.runId, step: msg.step, x: msg.x, y: msg.y, ...m });
