@@ -659,7 +659,7 @@ export class PreviewSession {
       (err: unknown) => this.env.log?.(`verdict failed: ${String(err)}`),
     ).then(() => {
       if (this.run === run && !this.disposed) this.requestWhy(run);
-    });
+    }).catch((err: unknown) => this.env.log?.(`see-why requests failed: ${String(err)}`));
     this.requestImpulse(run, steps);
   }
 

@@ -24,6 +24,9 @@ describe('monitor decisions of a long session', () => {
       verdict: async (_t: string, knobs: { dt: number }) => ({ verdict: { method: 'positivity', limit: 1, dt: knobs.dt, stable: true, reason: 'r', estimate: false, unconditional: false, positivityLimit: null, diffusionLimit: null }, extremumCheck: true }),
       impulse: async () => null,
       scene: async () => { throw new Error('no scenes'); },
+      // Not under test here: the summary and the frequency map are refused (the session logs and carries on).
+      approximates: async () => { throw new Error('not computed here'); },
+      spectrum: async () => { throw new Error('not computed here'); },
     } as unknown as AnalysisService;
     const session = new PreviewSession({
       source: 'file:///w/m.fluxel', fileName: 'm.fluxel', post: () => undefined, newEngine: () => engine, analysis,
