@@ -66,9 +66,11 @@ function engine(text: string, n: number, steps: number, backend: KernelBackend):
   // CPU time of the whole process over the steps (both threads; frames excluded as in stepSeconds), in seconds.
   let cpu = 0, c0 = process.cpuUsage();
   const res = run.runSync({
+    // Two steps per pass report progress twice in a row: count each stretch once.
     onProgress: () => {
       const d = process.cpuUsage(c0);
       cpu += (d.user + d.system) / 1e6;
+      c0 = process.cpuUsage();
     },
     shouldCancel: () => {
       c0 = process.cpuUsage();

@@ -447,3 +447,84 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   });
   return { body: fb, bufs };
 }
+
+/**
+ * Two steps in one pass (temporal blocking), as the driver function `emitTwoStep` builds: per chunk of rows
+ * [ya, yb), step s + 1 of the rows [ya - hy, yb + hy) goes into a per-thread band buffer T (one per updated field,
+ * after the thread's row-flux scratch), T's halo cells are refilled from the field's gather plan, and step s + 2 of
+ * the chunk goes from T into the next buffers. T holds TWO_STEP_SLACK + rows + 4·hy + 1 rows of the padded width.
+ */
+export const TWO_STEP_SLACK_ROWS = 1;
+export function twoStepSlotBytes(pw: number, hy: number, rows: number, dtype: DType): number {
+  const bytes = dtype === 'float32' ? 4 : 8;
+  return Math.ceil(((rows + 4 * hy + 1 + TWO_STEP_SLACK_ROWS) * pw * bytes + 64) / 16) * 16;
+}
+/** Bytes of a field's halo plan table: row starts (ph + 1 Int32), then (dst, src) Int32 pairs. */
+export function planTableBytes(ph: number, entries: number): number {
+  return Math.ceil((4 * (ph + 1) + 8 * entries) / 16) * 16;
+}
+
+export interface TwoStepGeometry extends KernelGeometry {
+  readonly ph: number;
+  /** Rows per chunk the T buffers are sized for. */
+  readonly rows: number;
+}
+
+/**
+ * The two-step driver. Arguments: the update kernel's buffer bases (c: current, d: next; `bufs`), one plan table
+ * address per store of the update (in store order), then x0, x1, ya, yb, monitor address, scratch (as a kernel).
+ * Step s + 1's monitors go to the monitor address + 2 slots (redundant rows computed by two chunks count twice,
+ * which min and max do not notice), step s + 2's to the monitor address itself.
+ */
+export function emitTwoStep(kg: KernelGraph, bufs: readonly BufId[], dtype: DType, geo: TwoStepGeometry, kernelIndex: number): FnBody {
+  const bytes = dtype === 'float32' ? 4 : 8, align = dtype === 'float32' ? 2 : 3;
+  const H = geo.ph - 2 * geo.hy, hy = geo.hy, pw = geo.pw;
+  const nb = bufs.length, ns = kg.stores.length;
+  const fb = new FnBody([...bufs.map((): ValType => I32), ...kg.stores.map((): ValType => I32), I32, I32, I32, I32, I32, I32], []);
+  const P = nb, X0 = nb + ns, X1 = X0 + 1, YA = X0 + 2, YB = X0 + 3, MON = X0 + 4, SCR = X0 + 5;
+  const r0 = fb.local(I32), r1 = fb.local(I32), e = fb.local(I32), end = fb.local(I32), pairs = fb.local(I32), at = fb.local(I32);
+  const tb = kg.stores.map(() => fb.local(I32));
+  const slot = new Map(kg.stores.map((s, j) => [s.field, j] as const));
+  const slotBytes = twoStepSlotBytes(pw, hy, geo.rows, dtype);
+  // r0 = max(0, ya - hy), r1 = min(H, yb + hy): the rows of step s + 1 this chunk needs.
+  fb.get(YA).i32c(hy).op(Op.i32Sub).i32c(0).get(YA).i32c(hy).op(Op.i32Sub).i32c(0).op(Op.i32GtS, Op.select).set(r0);
+  fb.get(YB).i32c(hy).op(Op.i32Add).i32c(H).get(YB).i32c(hy).op(Op.i32Add).i32c(H).op(Op.i32LtS, Op.select).set(r1);
+  // T's virtual base: padded row ya - hy sits TWO_STEP_SLACK_ROWS rows into the slot (i32 arithmetic wraps).
+  kg.stores.forEach((_, j) => {
+    fb.get(SCR).i32c(rowFluxBytes(pw, dtype) + j * slotBytes + TWO_STEP_SLACK_ROWS * pw * bytes).op(Op.i32Add);
+    fb.get(YA).i32c(hy).op(Op.i32Sub).i32c(pw * bytes).op(Op.i32Mul, Op.i32Sub).set(tb[j]);
+  });
+  const callKernel = (first: boolean): void => {
+    bufs.forEach((b, k) => {
+      const j = slot.get(b.index);
+      if (first && b.kind === 'd') fb.get(tb[j as number]);
+      else if (!first && b.kind === 'c' && j !== undefined) fb.get(tb[j]);
+      else fb.get(k);
+    });
+    fb.get(X0).get(X1);
+    if (first) fb.get(r0).get(r1).get(MON).i32c(2 * MONITOR_BYTES).op(Op.i32Add);
+    else fb.get(YA).get(YB).get(MON);
+    fb.get(SCR).op(Op.call).code.u32(IMPORTS.length + kernelIndex);
+  };
+  callKernel(true);
+  // Halo of T: the plan entries of padded rows [r0 + hy, r1 + hy), widened to the ghost rows at the image's edges.
+  kg.stores.forEach((_, j) => {
+    const tab = P + j;
+    // first padded row: 0 when r0 = 0, else r0 + hy; last (exclusive): ph when r1 = H, else r1 + hy.
+    fb.get(tab).i32c(0).get(r0).i32c(hy).op(Op.i32Add).get(r0).op(Op.i32Eqz, Op.select).i32c(2).op(Op.i32Shl, Op.i32Add).mem(Op.i32Load, 2, 0).set(e);
+    fb.get(tab).i32c(geo.ph).get(r1).i32c(hy).op(Op.i32Add).get(r1).i32c(H).op(Op.i32LtS, Op.i32Eqz, Op.select).i32c(2).op(Op.i32Shl, Op.i32Add).mem(Op.i32Load, 2, 0).set(end);
+    fb.get(tab).i32c(4 * (geo.ph + 1)).op(Op.i32Add).set(pairs);
+    fb.op(Op.block, VOID, Op.loop, VOID);
+    fb.get(e).get(end).op(Op.i32GeS, Op.brIf).code.u32(1);
+    fb.get(pairs).get(e).i32c(3).op(Op.i32Shl, Op.i32Add).set(at);
+    // T[dst] = T[src]
+    fb.get(tb[j]).get(at).mem(Op.i32Load, 2, 0).i32c(Math.log2(bytes)).op(Op.i32Shl, Op.i32Add);
+    fb.get(tb[j]).get(at).mem(Op.i32Load, 2, 4).i32c(Math.log2(bytes)).op(Op.i32Shl, Op.i32Add);
+    fb.mem(bytes === 4 ? Op.f32Load : Op.f64Load, align, 0).mem(bytes === 4 ? Op.f32Store : Op.f64Store, align, 0);
+    fb.get(e).i32c(1).op(Op.i32Add).set(e);
+    fb.op(Op.br).code.u32(0);
+    fb.op(Op.end, Op.end);
+  });
+  callKernel(false);
+  return fb;
+}
