@@ -7,6 +7,20 @@ import type { WasmMemory, WasmModule } from './wasmApi';
 
 /** Mailbox slots (Int32). */
 const SEQ = 0, STATE = 1, CFG = 2, FN = 3, NARGS = 4, ERROR = 5, CTR = 6, YA = 7, YB = 8, ROWS = 9, MON = 10, SCRATCH = 11, ARGS = 12, SLOTS = 80;
+
+/**
+ * The chunk counter packs the next chunk from the front (low 16 bits) and the end of the chunks left (high 16 bits);
+ * the caller claims from the front, the helper from the back, each with a compare-and-swap. Return -1 when none is left.
+ */
+function claimFront(m: Int32Array): number {
+  for (;;) {
+    const w = Atomics.load(m, CTR);
+    const lo = w & 0xffff, hi = w >>> 16;
+    if (lo >= hi) return -1;
+    if (Atomics.compareExchange(m, CTR, w, (lo + 1) | (hi << 16)) === w) return lo;
+  }
+}
+
 /** Job states: the caller cancels a job the helper has not picked up by the time the caller ran out of chunks. */
 const PENDING = 1, RUNNING = 2, DONE = 3, CANCELLED = 4;
 
@@ -18,6 +32,14 @@ const PENDING = 1, RUNNING = 2, DONE = 3, CANCELLED = 4;
  */
 const WORKER_SOURCE = `
 const { workerData, receiveMessageOnPort } = require('node:worker_threads');
+function claimBack(m) {
+  for (;;) {
+    const w = Atomics.load(m, ${CTR});
+    const lo = w & 0xffff, hi = w >>> 16;
+    if (lo >= hi) return -1;
+    if (Atomics.compareExchange(m, ${CTR}, w, lo | ((hi - 1) << 16)) === w) return hi - 1;
+  }
+}
 const mail = new Int32Array(workerData.mail);
 const port = workerData.port;
 const math = { exp: Math.exp, log: Math.log, sin: Math.sin, cos: Math.cos, tanh: Math.tanh, sign: Math.sign, pow: Math.pow };
@@ -48,8 +70,9 @@ for (;;) {
     const fn = fns[mail[${FN}]], n = mail[${NARGS}], args = [];
     for (let k = 0; k < n; k++) args.push(mail[${ARGS} + k]);
     const ya = mail[${YA}], yb = mail[${YB}], rows = mail[${ROWS}], mon = mail[${MON}], scratch = mail[${SCRATCH}];
-    const chunks = Math.ceil((yb - ya) / rows);
-    for (let k; (k = Atomics.add(mail, ${CTR}, 1)) < chunks;) fn(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mon, scratch);
+    // Chunks from the back (the caller takes them from the front): each thread keeps to its end of the image from
+    // step to step, and so to the rows its cache holds.
+    for (let k; (k = claimBack(mail)) >= 0;) fn(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mon, scratch);
   } catch (e) {
     Atomics.store(mail, ${ERROR}, 1);
   }
@@ -143,20 +166,20 @@ export function runShared(
   m[ROWS] = rows;
   m[MON] = theirs.mon;
   m[SCRATCH] = theirs.scratch;
-  Atomics.store(m, CTR, 0);
+  const chunks = Math.ceil((yb - ya) / rows);
+  if (chunks > 0x7fff) throw new Error('too many chunks of rows for the helper thread');
+  Atomics.store(m, CTR, chunks << 16);
   Atomics.store(m, STATE, PENDING);
   h.seq++;
   Atomics.store(m, SEQ, h.seq);
   Atomics.notify(m, SEQ);
-  const chunks = Math.ceil((yb - ya) / rows);
   if (forceHelper) {
     // Test mode: this thread runs the first half itself and waits for the helper to run the rest.
     const half = chunks >> 1;
-    Atomics.store(m, CTR, half);
-    for (let k = 0; k < half; k++) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mine.mon, mine.scratch);
+    for (let n = 0, k; n < half && (k = claimFront(m)) >= 0; n++) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mine.mon, mine.scratch);
     while (Atomics.load(m, STATE) === PENDING) Atomics.wait(m, STATE, PENDING, 50);
   }
-  for (let k; (k = Atomics.add(m, CTR, 1)) < chunks;) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mine.mon, mine.scratch);
+  for (let k; (k = claimFront(m)) >= 0;) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mine.mon, mine.scratch);
   if (Atomics.compareExchange(m, STATE, PENDING, CANCELLED) === PENDING) return 1;
   // The helper is on its last chunk: a short spin, then sleep until it reports.
   const until = performance.now() + 0.2;
