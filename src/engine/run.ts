@@ -99,6 +99,12 @@ export interface RunCallbacks {
   onWarning?(w: RunWarning): void;
   /** Checked once per step; returning true stops the run after the current step. */
   shouldCancel?(): boolean;
+  /**
+   * Set when onProgress reads the run's fields (e.g. to measure every step): the runner then takes single steps.
+   * Otherwise a backend may take two steps in one pass, and onProgress(s + 1) comes before the fields reach s + 1
+   * (shouldCancel is still asked between the two, and a cancel then ends the run at s + 1).
+   */
+  readonly everyStep?: boolean;
 }
 
 export type RunStatus = 'done' | 'cancelled' | 'blow-up';
@@ -371,27 +377,34 @@ export class Run {
   /**
    * Two steps in one pass of the backend (temporal blocking: step s + 1 lives only in per-thread band buffers), when
    * nothing needs step s + 1's field: no lets, no change rule, no frame at s + 1 (nor at s + 2 when it measures the
-   * change per step), no sensitivities. Both steps' monitors must be quiet (nothing to warn about); otherwise the
-   * pass is dropped (ctx.cur still holds step s) and the runner takes single steps, which find and report the pixel.
-   * Returns whether two steps were taken.
+   * change per step), no sensitivities, no caller reading the fields after every step. Both steps' monitors must be
+   * quiet (nothing to warn about); otherwise the pass is dropped (ctx.cur still holds step s) and the runner takes
+   * single steps, which find and report the pixel. Between the two steps it reports progress and asks shouldCancel,
+   * as single steps would. Returns 'done' (two steps taken), 'cancelled' (one step taken, then cancelled) or 'no'.
    */
-  private stepTwice(): boolean {
+  private stepTwice(cb: RunCallbacks): 'no' | 'done' | 'cancelled' {
     const c = this.compiled;
-    if (!this.pairing || !c.updateTwice || this.tangents || this.scheme.lets.length > 0 || this.stopChange !== null) return false;
-    if (this.status !== 'running' || this.stepIndex + 2 > this.steps || this.frameAt(this.stepIndex + 1)) return false;
+    if (cb.everyStep || !this.pairing || !c.updateTwice || this.tangents || this.scheme.lets.length > 0 || this.stopChange !== null) return 'no';
+    if (this.status !== 'running' || this.stepIndex + 2 > this.steps || this.frameAt(this.stepIndex + 1)) return 'no';
     // A frame's change measure compares with the step before, which a pass does not keep.
-    if (this.measures && this.frameAt(this.stepIndex + 2)) return false;
+    if (this.measures && this.frameAt(this.stepIndex + 2)) return 'no';
     const t0 = nowSeconds();
     const { ctx, geometry: g } = this;
     ctx.t = this.stepIndex * this.dt;
     if (!c.updateTwice(g, ctx, this.mid, this.ghosts)) {
       this.pairing = false;
-      return false;
+      return 'no';
     }
-    if (!this.quiet(this.mid) || !this.quiet(ctx.monitor)) {
-      this.stepSeconds += nowSeconds() - t0;
-      return false;
+    this.stepSeconds += nowSeconds() - t0;
+    if (!this.quiet(this.mid) || !this.quiet(ctx.monitor)) return 'no';
+    cb.onProgress?.(this.stepIndex + 1, this.steps);
+    if (cb.shouldCancel?.()) {
+      // The run stops after step s + 1: take it on its own (ctx.cur still holds step s).
+      this.step();
+      if (this.status === 'running') this.status = 'cancelled';
+      return 'cancelled';
     }
+    const t1 = nowSeconds();
     for (const k of this.updated) {
       const tmp = ctx.cur[k];
       ctx.cur[k] = ctx.next[k];
@@ -400,8 +413,8 @@ export class Run {
     }
     this.stepIndex += 2;
     this.checkMonitors();
-    this.stepSeconds += nowSeconds() - t0;
-    return true;
+    this.stepSeconds += nowSeconds() - t1;
+    return 'done';
   }
 
   /** Whether a frame is recorded after step k of a run that goes on (the last step always records one). */
@@ -430,9 +443,11 @@ export class Run {
       return false;
     }
     const before = this.warnings.length;
-    if (this.stepTwice()) cb.onProgress?.(this.stepIndex - 1, this.steps);
-    else this.step();
+    const pass = this.stepTwice(cb);
+    if (pass === 'no') this.step();
     for (let k = before; k < this.warnings.length; k++) cb.onWarning?.(this.warnings[k]);
+    // Cancelled between the two steps of a pass: step s + 1 was reported and taken, and records no frame.
+    if (pass === 'cancelled') return true;
     cb.onProgress?.(this.stepIndex, this.steps);
     const last = this.stepIndex === this.steps || this.status !== 'running';
     if (last || (this.every > 0 && this.stepIndex % this.every === 0)) this.recordFrame(cb);

@@ -81,6 +81,33 @@ describe('two steps per pass equal single steps, bitwise', () => {
     expect(ra.warnings.map(w => w.kind).sort()).toEqual(['growth', 'new-extremum']);
     expect(passes).toBeGreaterThan(0);
   });
+  it('a cancel between the two steps of a pass ends the run after the first, as with single steps', () => {
+    const s = schemeOf(PM);
+    const image = randomImage(40, 30, 8);
+    for (const stop of [5, 6]) {
+      const a = createRun(s, { image, steps: 12, backend: paired });
+      let seen = 0;
+      const calls: string[] = [];
+      const r = a.runSync({ onProgress: k => { seen = k; calls.push(`p${k}`); }, shouldCancel: () => { calls.push('c'); return seen >= stop; } });
+      expect([r.status, r.stepsDone]).toEqual(['cancelled', stop]);
+      // The same callbacks in the same order as single steps: ask, step, report.
+      expect(calls).toEqual([...Array.from({ length: stop }, (_, k) => ['c', `p${k + 1}`]).flat(), 'c']);
+      const b = createRun(s, { image, steps: stop, backend: single });
+      b.runSync();
+      expectClose(a.fieldData(0), b.fieldData(0), 0, `cancelled after step ${stop}`);
+    }
+  });
+  it('no passes when onProgress reads the fields (everyStep)', () => {
+    const s = schemeOf(PM);
+    const compiled = paired.compile(s, { dtype: 'float32' });
+    const spy = vi.spyOn(compiled, 'updateTwice' as never) as unknown as { mockRestore(): void };
+    const r = createRun(s, { image: randomImage(20, 20, 2), steps: 10, backend: paired });
+    const means: number[] = [];
+    r.runSync({ everyStep: true, onProgress: () => means.push(Array.from(r.fieldData(0)).reduce((x, y) => x + y, 0)) });
+    expect(spy).not.toHaveBeenCalled();
+    expect(means.length).toBe(10);
+    spy.mockRestore();
+  });
   it('equals the JavaScript backend within 1e-6 (Float32)', () => {
     const { s, a, common } = compare(PM, 64, 64, { steps: 20 });
     const c = createRun(s, { ...common, backend: js });
