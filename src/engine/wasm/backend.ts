@@ -63,6 +63,10 @@ class Arena {
     const pages = Math.ceil((this.planEnd + 64) / 65536);
     this.memory = new (api().Memory)({ initial: pages, maximum: pages, shared: true });
     this.f64 = new Float64Array(this.memory.buffer, 0, BUFFERS_AT / 8);
+    // The system maps pages on first write: do it now, with the buffers, rather than in the first steps (a fault
+    // per 4 KB page, about 9000 of them at 2048²).
+    const words = new Int32Array(this.memory.buffer);
+    for (let i = 0; i < words.length; i += 1024) words[i] = 0;
   }
   /** The plan's table in this memory (row starts, then dst/src pairs), written once; null when out of room. */
   planTable(plan: { dst: Int32Array; src: Int32Array }): number | null {
