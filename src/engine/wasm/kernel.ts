@@ -66,7 +66,7 @@ const F64_LANES = {
 
 const VOID = 0x40;
 /** Vectors per loop iteration in the body of a row. */
-const UNROLL = 2;
+const UNROLL = 4;
 
 /** Throws Unsupported for per-pixel operations without a vector form (they run on the JavaScript backend). */
 export function checkVectorisable(kg: KernelGraph, dtype: DType): void {
@@ -214,6 +214,18 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   const mn = monitors ? kg.stores.map(() => fb.local(V128)) : [];
   const mx = monitors ? kg.stores.map(() => fb.local(V128)) : [];
   const nan = monitors ? kg.stores.map(() => fb.local(V128)) : [];
+  /**
+   * Float32 monitors on the bits, as integers: signed and unsigned min and max (four accumulators per store). A
+   * value's bits order like the value among values with the sign bit clear (signed and unsigned alike) and in
+   * reverse among values with it set, which sort above the others as unsigned and below as signed; so the minimum
+   * is the largest unsigned bits when a negative value occurred, else the smallest signed, and the maximum the
+   * largest signed when a value with the sign bit clear occurred, else the smallest unsigned. NaNs sit beyond
+   * ±Infinity and show up in one of the two (then both are reported NaN, below). Integer min/max keep the
+   * monitors off the floating-point add ports, where compares and float min/max would queue behind the sums.
+   */
+  const INTMON = f32;
+  const mnU = monitors && INTMON ? kg.stores.map(() => fb.local(V128)) : [];
+  const mxU = monitors && INTMON ? kg.stores.map(() => fb.local(V128)) : [];
   const sv = fb.local(V128), rowAt = fb.local(I32);
   const usesY = variant.some(n => n.op === 'y');
   const yv = usesY ? fb.local(V128) : -1;
@@ -328,7 +340,15 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   }
 
   // ---- loops.
+  const i32s = (v: number): number[] => [v | 0, v | 0, v | 0, v | 0];
   for (let k = 0; k < mn.length; k++) {
+    if (INTMON) {
+      fb.v128c(i32s(0x7f800000), 'i32').set(mn[k]); // signed min of the bits; +Infinity when the band is empty
+      fb.v128c(i32s(0x80000000), 'i32').set(mx[k]); // signed max
+      fb.v128c(i32s(0xff800000), 'i32').set(mnU[k]); // unsigned min; -Infinity when the band is empty
+      fb.v128c(i32s(0), 'i32').set(mxU[k]); // unsigned max
+      continue;
+    }
     constV(Infinity); fb.set(mn[k]);
     constV(-Infinity); fb.set(mx[k]);
     constV(0); fb.set(nan[k]);
@@ -345,7 +365,12 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
         emit(s.node);
         fb.set(sv);
         fb.get(addr[storeBufs[k]]).get(sv).mem(Simd.store, align, (geo.hy * geo.pw + geo.hx + copy * L) * bytes, true);
-        if (monitors) {
+        if (monitors && INTMON) {
+          fb.get(mn[k]).get(sv).simd(Simd.i32x4MinS).set(mn[k]);
+          fb.get(mx[k]).get(sv).simd(Simd.i32x4MaxS).set(mx[k]);
+          fb.get(mnU[k]).get(sv).simd(Simd.i32x4MinU).set(mnU[k]);
+          fb.get(mxU[k]).get(sv).simd(Simd.i32x4MaxU).set(mxU[k]);
+        } else if (monitors) {
           // pmin/pmax are single instructions (min/max with NaN propagation are long sequences, and they sit on the
           // loop-carried chain); NaN is tracked on its own lane mask instead.
           fb.get(mn[k]).get(sv).simd(T.pmin).set(mn[k]);
@@ -386,7 +411,7 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
       }
     }
     fb.get(X0).set(x);
-    // Two vectors per iteration while they fit (less loop and address work per pixel)...
+    // UNROLL vectors per iteration while they fit (less loop and address work per pixel)...
     directX = false;
     directY = firstRow;
     fb.op(Op.block, VOID, Op.loop, VOID);
@@ -395,7 +420,7 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
     fb.get(x).i32c(UNROLL * L).op(Op.i32Add).set(x);
     fb.op(Op.br).code.u32(0);
     fb.op(Op.end, Op.end);
-    // ...then at most two more single vectors, the last one ending at the row's end (it may overlap the one before,
+    // ...then single vectors, the last one ending at the row's end (it may overlap the one before,
     // so it computes reused fluxes directly).
     directX = true;
     directY = true;
@@ -431,6 +456,13 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   // Monitors: reduce the lanes and merge (min, max) as Float64 into the monitor slot.
   kg.stores.forEach((s, k) => {
     if (!monitors) return;
+    if (INTMON) {
+      // min: the largest unsigned bits if some lane held a negative value (sign bit set), else the smallest signed;
+      // max: the largest signed bits if some lane held a value with the sign bit clear, else the smallest unsigned.
+      fb.get(mxU[k]).get(mn[k]).get(mxU[k]).v128c(i32s(0), 'i32').simd(Simd.i32x4LtS).simd(Simd.bitselect).set(mn[k]);
+      fb.get(mx[k]).get(mnU[k]).get(mx[k]).v128c(i32s(0), 'i32').simd(Simd.i32x4GeS).simd(Simd.bitselect).set(mx[k]);
+      fb.get(mn[k]).get(mn[k]).simd(T.ne).get(mx[k]).get(mx[k]).simd(T.ne).simd(Simd.or).set(nan[k]);
+    }
     for (const [v, off, red] of [[mn[k], 0, 'min'], [mx[k], 8, 'max']] as const) {
       fb.get(MON);
       for (let lane = 0; lane < L; lane++) {

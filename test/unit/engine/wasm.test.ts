@@ -146,6 +146,10 @@ describe('Float32 monitors agree with the JavaScript kernels', () => {
     ['+Infinity at one pixel', `u' = if x == 6 and y == 1 then 1e39 else -u\n`],
     ['NaN at one pixel', `u' = if x == 9 and y == 6 then sqrt(-1 - u) else u\n`],
     ['NaN in the last vector of a row', `u' = if x == 12 then sqrt(-1 - u) else u\n`],
+    ['NaN of the other sign among negative values', `u' = if x == 1 and y == 7 then -sqrt(-1 - u) else -1 - u\n`],
+    ['NaN of either sign', `u' = if x == 1 then -sqrt(-1 - u) else if x == 2 then sqrt(-1 - u) else u\n`],
+    ['only zeros of both signs', `u' = if x == 4 then -0 else 0 * u\n`],
+    ['-Infinity among negative values', `u' = if x == 0 and y == 0 then -1e39 else -1 - u\n`],
   ];
   for (const [what, body] of cases) {
     it(what, () => {
