@@ -255,7 +255,18 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
         break;
       case 'y': fb.get(yv); break;
       case 'neg': case 'abs': case 'sqrt': emit(a[0]); fb.simd(T[n.op]); break;
-      case 'add': case 'sub': case 'mul': case 'div': case 'min': case 'max':
+      case 'add': {
+        // p + (-F) is p - F in IEEE arithmetic, bit for bit: a reused flux is subtracted, not negated and added.
+        if (reusedAsIs(a[1])) {
+          emit(a[0]); reusedFlux(a[1]); fb.simd(T.sub);
+        } else if (reusedAsIs(a[0])) {
+          emit(a[1]); reusedFlux(a[0]); fb.simd(T.sub);
+        } else {
+          emit(a[0]); emit(a[1]); fb.simd(T.add);
+        }
+        break;
+      }
+      case 'sub': case 'mul': case 'div': case 'min': case 'max':
       case 'lt': case 'le': case 'gt': case 'ge': case 'eq': case 'ne':
         emit(a[0]); emit(a[1]); fb.simd(T[n.op]); break;
       case 'and': emit(a[0]); emit(a[1]); fb.simd(Simd.and); break;
@@ -275,29 +286,14 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
         break;
       }
       case 'exp': emitExp32(a[0]); break;
-      case 'reusex': {
-        const c = carry.get(a[0]);
-        if (directX || c === undefined) {
+      case 'reusex': case 'reusey':
+        if (!reusable(id)) {
           emit(a[1]);
           break;
         }
-        // Lanes x-1 .. x+L-2 of F: the last lane of the vector before, then the first L-1 lanes of this one.
-        fb.get(c);
-        emit(a[0]);
-        fb.simd(Simd.shuffle);
-        for (let k = 0; k < 16; k++) fb.code.u8(16 - bytes + k);
+        reusedFlux(id);
         fb.simd(T.neg);
         break;
-      }
-      case 'reusey': {
-        const slot = rowSlot.get(a[0]);
-        if (directY || slot === undefined) {
-          emit(a[1]);
-          break;
-        }
-        fb.get(rowAt).mem(Simd.load, align, slot * rowStride + copy * L * bytes, true).simd(T.neg);
-        break;
-      }
       default: throw new Unsupported(`${n.op}()`, n.line);
     }
     if ((uses.get(id) ?? 0) > 1) {
@@ -307,6 +303,31 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
       done.add(id);
     }
   };
+
+  /** Whether a reuse node takes its flux from the vector or row before in the current emission mode. */
+  function reusable(id: number): boolean {
+    const n = nodes[id];
+    if (n.op === 'reusex') return !directX && carry.has(n.args[0]);
+    if (n.op === 'reusey') return !directY && rowSlot.has(n.args[0]);
+    return false;
+  }
+  /** A reuse node used once, not yet computed: its sum can subtract the flux F instead of adding -F. */
+  function reusedAsIs(id: number): boolean {
+    return reusable(id) && (uses.get(id) ?? 0) <= 1 && !done.has(id);
+  }
+  /** Pushes F, the flux the reuse node's value is minus of: from the vector before (x) or the row above (y). */
+  function reusedFlux(id: number): void {
+    const n = nodes[id];
+    if (n.op === 'reusex') {
+      // Lanes x-1 .. x+L-2 of F: the last lane of the vector before, then the first L-1 lanes of this one.
+      fb.get(carry.get(n.args[0]) as number);
+      emit(n.args[0]);
+      fb.simd(Simd.shuffle);
+      for (let k = 0; k < 16; k++) fb.code.u8(16 - bytes + k);
+    } else {
+      fb.get(rowAt).mem(Simd.load, align, (rowSlot.get(n.args[0]) as number) * rowStride + copy * L * bytes, true);
+    }
+  }
 
   const scratch = (): number => tmp.pop() ?? fb.local(V128);
   const release = (l: number): void => {
