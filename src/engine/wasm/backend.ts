@@ -31,11 +31,14 @@ export interface WasmOptions {
 
 const MATH_IMPORTS = { exp: Math.exp, log: Math.log, sin: Math.sin, cos: Math.cos, tanh: Math.tanh, sign: Math.sign, pow: Math.pow };
 
-/** Rows per chunk of the two-step pass: its band buffers (one per updated field) stay near 384 KB, in L2. */
+/**
+ * Rows per chunk of the two-step pass: its band buffers (one per updated field) stay near 384 KB, in L2, and there
+ * are at least 16 chunks, so the thread that finishes first waits for at most a short chunk of the other's.
+ */
 function twoStepRows(g: Geometry, dtype: DType, stores: number): number {
   const bytes = dtype === 'float32' ? 4 : 8;
   const fit = Math.floor((384 * 1024) / (g.pw * bytes * Math.max(1, stores))) - 4 * g.haloY;
-  return Math.max(1, Math.min(64, Math.max(8, fit), Math.ceil(g.height / 8)));
+  return Math.max(1, Math.min(64, Math.max(8, fit), Math.ceil(g.height / 16)));
 }
 
 /** A run's buffers: one shared memory, bump-allocated; kernels are instantiated over it per geometry. */
@@ -289,9 +292,11 @@ class WasmCompiled implements CompiledScheme {
     }
   }
 
+  private twoStep: boolean | undefined;
   /** Two steps per pass need no lets (they change every step) and no t in the updates (it is read once per call). */
   private twoStepAllowed(): boolean {
-    return this.opts.twoStep !== false && this.plan.lets.length === 0 && this.plan.update.stores.length > 0 && !this.plan.update.graph.nodes.some(n => n.op === 't');
+    this.twoStep ??= this.opts.twoStep !== false && this.plan.lets.length === 0 && this.plan.update.stores.length > 0 && !this.plan.update.graph.nodes.some(n => n.op === 't');
+    return this.twoStep;
   }
 
   updateTwice(g: Geometry, ctx: KernelContext, mid: StepMonitor, ghosts: readonly GhostPlanLike[]): boolean {
