@@ -93,7 +93,14 @@ export interface Helper {
   holds: string | null;
   seq: number;
   cfg: number;
+  /** Jobs in a row where the helper was no help (never came, or kept the caller waiting longer than it worked). */
+  slow: number;
+  /** Until this time (performance.now()) the caller runs every chunk alone: the helper gets no CPU, it seems. */
+  soloUntil: number;
 }
+
+/** After this many slow jobs in a row the caller works alone for SOLO_MS, then tries the helper again. */
+const SLOW_JOBS = 3, SOLO_MS = 50;
 
 let helper: Helper | null | undefined;
 let forceHelper = false;
@@ -109,6 +116,15 @@ function builtin<T>(name: string): T | null {
     return (p?.getBuiltinModule?.(name) as T | undefined) ?? null;
   } catch {
     return null;
+  }
+}
+
+function noteHelper(h: Helper, slow: boolean, now: number): void {
+  if (forceHelper) return;
+  h.slow = slow ? h.slow + 1 : 0;
+  if (h.slow >= SLOW_JOBS) {
+    h.slow = 0;
+    h.soloUntil = now + SOLO_MS;
   }
 }
 
@@ -132,7 +148,7 @@ export function getHelper(): Helper | null {
     // Neither the thread nor its port may keep a finished CLI run (or a test process) alive.
     worker.unref();
     port1.unref?.();
-    helper = { mail, post: m => port1.postMessage(m), holds: null, seq: 0, cfg: 0 };
+    helper = { mail, post: m => port1.postMessage(m), holds: null, seq: 0, cfg: 0, slow: 0, soloUntil: 0 };
   } catch {
     helper = null;
   }
@@ -143,7 +159,9 @@ export function getHelper(): Helper | null {
  * Runs `call` (this thread's instance of function `fn`) over rows [ya, yb) in chunks shared with the helper through
  * an atomic counter, so a helper that is late (a busy machine) costs nothing: the caller takes every chunk left and
  * cancels the job if the helper has not claimed it. Each chunk computes exactly what one call over all rows would,
- * so the result does not depend on who ran which chunk. Returns how many threads took part.
+ * so the result does not depend on who ran which chunk. On a machine whose other core is busy the helper only
+ * steals time from the caller: after a few jobs where it never came or kept the caller waiting longer than the
+ * caller worked, the caller works alone for a while. Returns how many threads took part.
  */
 export function runShared(
   h: Helper, key: string, module: WasmModule, memory: WasmMemory, names: readonly string[], fn: number,
@@ -152,6 +170,13 @@ export function runShared(
 ): number {
   const m = h.mail;
   if (args.length > SLOTS - ARGS) throw new Error('too many kernel arguments for the helper thread');
+  if (!forceHelper && h.soloUntil > 0) {
+    if (performance.now() < h.soloUntil) {
+      for (let y = ya; y < yb; y += rows) call(...args, y, Math.min(yb, y + rows), mine.mon, mine.scratch);
+      return 1;
+    }
+    h.soloUntil = 0;
+  }
   if (h.holds !== key) {
     h.post({ module, memory, names });
     h.cfg++;
@@ -179,12 +204,18 @@ export function runShared(
     for (let n = 0, k; n < half && (k = claimFront(m)) >= 0; n++) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mine.mon, mine.scratch);
     while (Atomics.load(m, STATE) === PENDING) Atomics.wait(m, STATE, PENDING, 50);
   }
+  const t0 = performance.now();
   for (let k; (k = claimFront(m)) >= 0;) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mine.mon, mine.scratch);
-  if (Atomics.compareExchange(m, STATE, PENDING, CANCELLED) === PENDING) return 1;
+  const t1 = performance.now();
+  if (Atomics.compareExchange(m, STATE, PENDING, CANCELLED) === PENDING) {
+    noteHelper(h, true, t1);
+    return 1;
+  }
   // The helper is on its last chunk: a short spin, then sleep until it reports.
-  const until = performance.now() + 0.2;
+  const until = t1 + 0.2;
   while (Atomics.load(m, STATE) === RUNNING && performance.now() < until) { /* spin */ }
   while (Atomics.load(m, STATE) === RUNNING) Atomics.wait(m, STATE, RUNNING, 1000);
+  noteHelper(h, performance.now() - t1 > t1 - t0, t1);
   if (Atomics.load(m, ERROR) !== 0) {
     Atomics.store(m, ERROR, 0);
     throw new Error('the helper thread failed to run a kernel');
