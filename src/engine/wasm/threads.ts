@@ -100,7 +100,7 @@ export interface Helper {
 }
 
 /** After this many slow jobs in a row the caller works alone for SOLO_MS, then tries the helper again. */
-const SLOW_JOBS = 3, SOLO_MS = 50;
+const SLOW_JOBS = 3, SOLO_MS = 10;
 
 let helper: Helper | null | undefined;
 let forceHelper = false;
