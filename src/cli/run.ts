@@ -291,6 +291,8 @@ async function runCommand(argv: string[], expected: Expected | null): Promise<nu
     const tracker = reference && o.stats && (metric === 'psnr' || (run.geometry.width >= 11 && run.geometry.height >= 11))
       ? bestStepTracker(reference, metric, pictureField(scheme), run) : null;
     const result = await run.run({
+      // The tracker reads the field after every step: no two steps per pass then.
+      everyStep: tracker !== null,
       onProgress: step => {
         tracker?.measure(step);
         bar?.update(step);

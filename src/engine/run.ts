@@ -18,7 +18,7 @@ import { sensitivityKey, Tangents } from './sensitivity';
 import { extremumPrinciple, type ExtremumDecision } from './monitorPolicy';
 import { blurRadius, EngineError, planHalo, type HaloPlan } from './plan';
 import type {
-  CompiledScheme, DType, FieldArray, FieldStats, FrameStats, Geometry, KernelBackend, KernelContext, RunWarning, StopReason, WarningKind,
+  CompiledScheme, DType, FieldArray, FieldStats, FrameStats, Geometry, KernelBackend, KernelContext, RunWarning, StepMonitor, StopReason, WarningKind,
 } from './types';
 
 /** A grey image, row-major: pixel (x, y) is data[y * width + x]. */
@@ -99,6 +99,12 @@ export interface RunCallbacks {
   onWarning?(w: RunWarning): void;
   /** Checked once per step; returning true stops the run after the current step. */
   shouldCancel?(): boolean;
+  /**
+   * Set when onProgress reads the run's fields (e.g. to measure every step): the runner then takes single steps.
+   * Otherwise a backend may take two steps in one pass, and onProgress(s + 1) comes before the fields reach s + 1
+   * (shouldCancel is still asked between the two, and a cancel then ends the run at s + 1).
+   */
+  readonly everyStep?: boolean;
 }
 
 export type RunStatus = 'done' | 'cancelled' | 'blow-up';
@@ -167,6 +173,10 @@ export class Run {
   private readonly ctx: KernelContext;
   private readonly ghosts: GhostPlan[];
   private readonly updated: number[];
+  /** Step s + 1's monitors when the backend takes two steps in one pass (see stepTwice). */
+  private readonly mid: StepMonitor;
+  /** Cleared when the backend declines two-step passes for this run. */
+  private pairing = true;
   private readonly blurTaps: (Float64Array | null)[];
   private readonly scratch: FieldArray | null;
   private readonly every: number;
@@ -264,6 +274,7 @@ export class Run {
     this.blurTaps = this.halo.letSigmas.map(s => (s === null ? null : gaussianTaps(s)));
     this.scratch = this.blurTaps.some(t => t !== null) ? alloc() : null;
     const n = scheme.fields.length;
+    this.mid = { min: new Float64Array(n), max: new Float64Array(n), bad: new Float64Array(n) };
     this.ctx = {
       cur, next, lets,
       params: Float64Array.from(scheme.params.map(p => values.get(p.name) as number)),
@@ -397,15 +408,80 @@ export class Run {
     return this.status === 'running';
   }
 
-  /** One step with its callbacks (warnings, progress, frame capture); false when cancelled before stepping. */
+  /**
+   * Two steps in one pass of the backend (temporal blocking: step s + 1 lives only in per-thread band buffers), when
+   * nothing needs step s + 1's field: no lets, no change rule, no frame at s + 1 (nor at s + 2 when it measures the
+   * change per step), no sensitivities, no caller reading the fields after every step. Both steps' monitors must be
+   * quiet (nothing to warn about); otherwise the pass is dropped (ctx.cur still holds step s) and the runner takes
+   * single steps, which find and report the pixel. Between the two steps it reports progress and asks shouldCancel,
+   * as single steps would. Returns 'done' (two steps taken), 'cancelled' (one step taken, then cancelled) or 'no'.
+   */
+  private stepTwice(cb: RunCallbacks): 'no' | 'done' | 'cancelled' {
+    const c = this.compiled;
+    if (cb.everyStep || !this.pairing || !c.updateTwice || this.tangents || this.scheme.lets.length > 0 || this.stopChange !== null) return 'no';
+    if (this.status !== 'running' || this.stepIndex + 2 > this.steps || this.frameAt(this.stepIndex + 1)) return 'no';
+    // A frame's change measure compares with the step before, which a pass does not keep.
+    if (this.measures && this.frameAt(this.stepIndex + 2)) return 'no';
+    const t0 = nowSeconds();
+    const { ctx, geometry: g } = this;
+    ctx.t = this.stepIndex * this.dt;
+    if (!c.updateTwice(g, ctx, this.mid, this.ghosts)) {
+      this.pairing = false;
+      return 'no';
+    }
+    this.stepSeconds += nowSeconds() - t0;
+    if (!this.quiet(this.mid) || !this.quiet(ctx.monitor)) return 'no';
+    cb.onProgress?.(this.stepIndex + 1, this.steps);
+    if (cb.shouldCancel?.()) {
+      // The run stops after step s + 1: take it on its own (ctx.cur still holds step s).
+      this.step();
+      if (this.status === 'running') this.status = 'cancelled';
+      return 'cancelled';
+    }
+    const t1 = nowSeconds();
+    for (const k of this.updated) {
+      const tmp = ctx.cur[k];
+      ctx.cur[k] = ctx.next[k];
+      ctx.next[k] = tmp;
+      fillGhosts(ctx.cur[k], g, this.ghosts[k]);
+    }
+    this.stepIndex += 2;
+    this.checkMonitors();
+    this.stepSeconds += nowSeconds() - t1;
+    return 'done';
+  }
+
+  /** Whether a frame is recorded after step k of a run that goes on (the last step always records one). */
+  private frameAt(k: number): boolean {
+    return k === this.steps || (this.every > 0 && k % this.every === 0);
+  }
+
+  /** Whether checkMonitors would find nothing to report in M (the same tests, without side effects). */
+  private quiet(M: StepMonitor): boolean {
+    for (const k of this.updated) {
+      const lo = M.min[k], hi = M.max[k];
+      if (Number.isNaN(M.bad[k]) || !Number.isFinite(lo) || !Number.isFinite(hi)) return false;
+      const big = Math.max(Math.abs(lo), Math.abs(hi));
+      if (this.dtype === 'float32' && big > FLOAT32_MAX) return false;
+      if (big > this.growthBound && !this.warned.has(`growth:${k}`)) return false;
+      const ex = this.extremum;
+      if (ex && (hi > ex.hi || lo < ex.lo) && !this.warned.has(`extremum:${k}`)) return false;
+    }
+    return true;
+  }
+
+  /** One step (two where the backend can, see stepTwice) with its callbacks; false when cancelled before stepping. */
   private advance(cb: RunCallbacks): boolean {
     if (cb.shouldCancel?.()) {
       this.status = 'cancelled';
       return false;
     }
     const before = this.warnings.length;
-    this.step();
+    const pass = this.stepTwice(cb);
+    if (pass === 'no') this.step();
     for (let k = before; k < this.warnings.length; k++) cb.onWarning?.(this.warnings[k]);
+    // Cancelled between the two steps of a pass: step s + 1 was reported and taken, and records no frame.
+    if (pass === 'cancelled') return true;
     cb.onProgress?.(this.stepIndex, this.steps);
     const last = this.stepIndex === this.steps || this.status !== 'running';
     if (last || (this.every > 0 && this.stepIndex % this.every === 0)) this.recordFrame(cb);

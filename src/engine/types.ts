@@ -29,7 +29,20 @@ export interface CompiledScheme {
    * backend keeps them in one shared memory); null or absent means ordinary typed arrays.
    */
   allocateBuffers?(g: Geometry, count: number): FieldArray[] | null;
+  /**
+   * Optional: two steps in one pass over the buffers (temporal blocking): reads ctx.cur (step s), writes the
+   * interiors of ctx.next with step s + 2, fills `mid` with the monitors of step s + 1 and ctx.monitor with those of
+   * step s + 2. ctx.cur is left as it was. Returns false, having written nothing the runner reads, where the scheme or
+   * the buffers do not allow it; the runner then takes single steps. Only called for schemes without lets whose
+   * updates do not read t. The result is bitwise that of two calls of update with a halo refill between them.
+   */
+  updateTwice?(g: Geometry, ctx: KernelContext, mid: StepMonitor, ghosts: readonly GhostPlanLike[]): boolean;
 }
+
+/** The halo plans of boundary.ts, as the backends see them (one per field). */
+export type GhostPlanLike =
+  | { readonly kind: 'gather'; readonly dst: Int32Array; readonly src: Int32Array }
+  | { readonly kind: 'constant'; readonly value: number };
 
 /** Where another backend (WebAssembly SIMD, a later issue) plugs in. */
 export interface KernelBackend {

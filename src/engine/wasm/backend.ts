@@ -6,11 +6,12 @@
 import type { CheckedScheme } from '../../notation/scheme';
 import { jsBackend, type JsBackend } from '../jsBackend';
 import { canonicalScheme, hashText } from '../plan';
-import type { CompiledScheme, DType, FieldArray, Geometry, KernelBackend, KernelContext } from '../types';
+import type { CompiledScheme, DType, FieldArray, Geometry, GhostPlanLike, KernelBackend, KernelContext, StepMonitor } from '../types';
 import { encodeModule, type FnBody } from './emit';
 import { letGraph, Unsupported, updateGraph, type KernelGraph } from './ir';
 import {
-  BUFFERS_AT, checkVectorisable, emitKernel, IMPORTS, MAX_FIELDS, MAX_PARAMS, MONITOR_AT, MONITOR_BYTES, PARAMS_AT, rowFluxBytes, type BufId,
+  BUFFERS_AT, checkVectorisable, emitKernel, emitTwoStep, IMPORTS, MAX_FIELDS, MAX_PARAMS, MONITOR_AT, MONITOR_BYTES, PARAMS_AT, planTableBytes,
+  rowFluxBytes, twoStepSlotBytes, type BufId,
 } from './kernel';
 import { wasmApi, type WasmMemory, type WasmModule } from './wasmApi';
 import { coreCount, getHelper, runShared } from './threads';
@@ -24,28 +25,74 @@ export interface WasmOptions {
   readonly threads?: 1 | 2 | 'auto';
   /** Compute each face's flux once where the scheme allows (default); off only to check it changes nothing. */
   readonly reuseFluxes?: boolean;
+  /** Two steps per pass where the run allows (default); off only to check it changes nothing. */
+  readonly twoStep?: boolean;
 }
 
 const MATH_IMPORTS = { exp: Math.exp, log: Math.log, sin: Math.sin, cos: Math.cos, tanh: Math.tanh, sign: Math.sign, pow: Math.pow };
+
+/**
+ * Rows per chunk of the two-step pass: its band buffers (one per updated field) stay near 384 KB, in L2, and there
+ * are at least 16 chunks, so the thread that finishes first waits for at most a short chunk of the other's.
+ */
+function twoStepRows(g: Geometry, dtype: DType, stores: number): number {
+  const bytes = dtype === 'float32' ? 4 : 8;
+  const fit = Math.floor((384 * 1024) / (g.pw * bytes * Math.max(1, stores))) - 4 * g.haloY;
+  return Math.max(1, Math.min(64, Math.max(8, fit), Math.ceil(g.height / 16)));
+}
 
 /** A run's buffers: one shared memory, bump-allocated; kernels are instantiated over it per geometry. */
 class Arena {
   readonly memory: WasmMemory;
   readonly f64: Float64Array;
   private next: number;
-  /** Per thread: address of its row-flux scratch. */
+  /** Per thread: address of its row-flux scratch, followed by its two-step band buffers. */
   readonly scratch: readonly number[];
+  /** Where the halo plan tables of the two-step pass go (one per updated field, written on first use). */
+  private planNext: number;
+  private readonly planEnd: number;
+  readonly planTables = new Map<object, number>();
   readonly instances = new Map<string, { module: WasmModule; names: string[]; fns: ((...a: number[]) => void)[] }>();
   readonly prepared = new Map<object, { g: Geometry; inst: Prepared }>();
-  constructor(readonly g: Geometry, readonly dtype: DType, count: number, readonly threads: number) {
+  constructor(readonly g: Geometry, readonly dtype: DType, count: number, readonly threads: number, stores: number) {
     const bytes = dtype === 'float32' ? 4 : 8;
     const size = align16(g.pw * g.ph * bytes);
     this.next = align16(BUFFERS_AT + (g.haloY * g.pw + g.haloX) * bytes + 16);
-    // After the buffers: each thread's row of vertical fluxes (kernel.ts, reused fluxes).
-    this.scratch = [0, 1].map(k => this.next + count * size + k * rowFluxBytes(g.pw, dtype));
-    const pages = Math.ceil((this.next + count * size + 2 * rowFluxBytes(g.pw, dtype) + 64) / 65536);
+    // After the buffers: each thread's row of vertical fluxes (kernel.ts, reused fluxes) and band buffers.
+    const perThread = align16(rowFluxBytes(g.pw, dtype) + stores * twoStepSlotBytes(g.pw, g.haloY, twoStepRows(g, dtype, stores), dtype));
+    this.scratch = [0, 1].map(k => this.next + count * size + k * perThread);
+    this.planNext = this.next + count * size + 2 * perThread;
+    this.planEnd = this.planNext + stores * planTableBytes(g.ph, g.pw * g.ph - g.width * g.height);
+    const pages = Math.ceil((this.planEnd + 64) / 65536);
     this.memory = new (api().Memory)({ initial: pages, maximum: pages, shared: true });
     this.f64 = new Float64Array(this.memory.buffer, 0, BUFFERS_AT / 8);
+    // The system maps pages on first write: do it now, with the buffers, rather than in the first steps (a fault
+    // per 4 KB page, about 9000 of them at 2048²).
+    const words = new Int32Array(this.memory.buffer);
+    for (let i = 0; i < words.length; i += 1024) words[i] = 0;
+  }
+  /** The plan's table in this memory (row starts, then dst/src pairs), written once; null when out of room. */
+  planTable(plan: { dst: Int32Array; src: Int32Array }): number | null {
+    const hit = this.planTables.get(plan);
+    if (hit !== undefined) return hit;
+    const g = this.g, n = plan.dst.length, bytes = planTableBytes(g.ph, n);
+    if (this.planNext + bytes > this.planEnd) return null;
+    const at = this.planNext;
+    this.planNext += bytes;
+    const starts = new Int32Array(this.memory.buffer, at, g.ph + 1);
+    const pairs = new Int32Array(this.memory.buffer, at + 4 * (g.ph + 1), 2 * n);
+    // Entries are in row-major order of their destination (boundary.ts), so each padded row's entries are a range.
+    let e = 0;
+    for (let p = 0; p <= g.ph; p++) {
+      while (e < n && Math.floor(plan.dst[e] / g.pw) < p) e++;
+      starts[p] = e;
+    }
+    for (let k = 0; k < n; k++) {
+      pairs[2 * k] = plan.dst[k];
+      pairs[2 * k + 1] = plan.src[k];
+    }
+    this.planTables.set(plan, at);
+    return at;
   }
   alloc(): FieldArray {
     const g = this.g, n = g.pw * g.ph;
@@ -100,7 +147,7 @@ class WasmCompiled implements CompiledScheme {
     const threads = t === 1 ? 1 : t === 2 || (g.width * g.height >= THREAD_MIN_PIXELS && coreCount() >= 2) ? 2 : 1;
     let arena: Arena;
     try {
-      arena = new Arena(g, this.dtype, count, threads);
+      arena = new Arena(g, this.dtype, count, threads, this.plan.update.stores.length);
     } catch {
       return null; // too large for one memory: the runner allocates ordinary arrays and the JavaScript kernels run
     }
@@ -135,7 +182,7 @@ class WasmCompiled implements CompiledScheme {
   }
 
   private prepare(arena: Arena, g: Geometry): Prepared {
-    const key = `${g.pw},${g.haloX},${g.haloY}`;
+    const key = `${g.pw},${g.ph},${g.haloX},${g.haloY}`;
     let m = this.modules.get(key);
     if (!m) {
       const geo = { pw: g.pw, hx: g.haloX, hy: g.haloY };
@@ -150,6 +197,11 @@ class WasmCompiled implements CompiledScheme {
         funcs.push({ name: `l${k}`, body: e.body });
         bufs.push([...e.bufs]);
       });
+      if (this.twoStepAllowed()) {
+        const rows = twoStepRows(g, this.dtype, this.plan.update.stores.length);
+        funcs.push({ name: 't2', body: emitTwoStep(this.plan.update, u.bufs, this.dtype, { ...geo, ph: g.ph, rows }, 0) });
+        bufs.push([...u.bufs]);
+      }
       const bytes = encodeModule({ imports: IMPORTS.map(name => ({ name, params: name === 'pow' ? [0x7c, 0x7c] : [0x7c], results: [0x7c] })), memory: { min: 1, max: 65536 }, funcs });
       m = { module: new (api().Module)(bytes), names: funcs.map(f => f.name), bufs };
       this.modules.set(key, m);
@@ -175,10 +227,10 @@ class WasmCompiled implements CompiledScheme {
    * threads, on this thread alone otherwise. The chunks are the same either way, so one thread and two give the
    * same bits (a chunk's first row computes its vertical fluxes itself instead of taking them from the row above).
    */
-  private runBands(arena: Arena, g: Geometry, fn: number, bufArgs: number[], x0: number, x1: number, ya: number, yb: number): void {
+  private runBands(arena: Arena, g: Geometry, fn: number, bufArgs: number[], x0: number, x1: number, ya: number, yb: number, chunkRows?: number): void {
     const inst = this.instance(arena, g);
     const rows = yb - ya;
-    const chunk = rows >= 8 ? Math.max(4, Math.ceil(rows / 16)) : rows;
+    const chunk = chunkRows ?? (rows >= 8 ? Math.max(4, Math.ceil(rows / 16)) : rows);
     const h = arena.threads > 1 && rows >= 8 ? getHelper() : null;
     const call = inst.fns[fn];
     if (!h) {
@@ -226,14 +278,76 @@ class WasmCompiled implements CompiledScheme {
     }
     this.runBands(arena, g, 0, this.bufArgs(inst.bufs[0], ctx), 0, g.width, 0, g.height);
     this.threadsUsed = arena.threads > 1 && g.height >= 8 ? 2 : 1;
+    this.readMonitors(f, MONITOR_AT, M);
+  }
+
+  /** Merges the two threads' monitor slots starting at `at` into M. */
+  private readMonitors(f: Float64Array, at: number, M: StepMonitor): void {
     for (const s of this.plan.update.stores) {
-      const mn = Math.min(f[(MONITOR_AT + 16 * s.field) / 8], f[(MONITOR_AT + MONITOR_BYTES + 16 * s.field) / 8]);
-      const mx = Math.max(f[(MONITOR_AT + 16 * s.field + 8) / 8], f[(MONITOR_AT + MONITOR_BYTES + 16 * s.field + 8) / 8]);
+      const mn = Math.min(f[(at + 16 * s.field) / 8], f[(at + MONITOR_BYTES + 16 * s.field) / 8]);
+      const mx = Math.max(f[(at + 16 * s.field + 8) / 8], f[(at + MONITOR_BYTES + 16 * s.field + 8) / 8]);
       M.min[s.field] = mn;
       M.max[s.field] = mx;
       M.bad[s.field] = (mn - mn) + (mx - mx);
     }
   }
+
+  private twoStep: boolean | undefined;
+  /** Two steps per pass need no lets (they change every step) and no t in the updates (it is read once per call). */
+  private twoStepAllowed(): boolean {
+    this.twoStep ??= this.opts.twoStep !== false && this.plan.lets.length === 0 && this.plan.update.stores.length > 0 && !this.plan.update.graph.nodes.some(n => n.op === 't');
+    return this.twoStep;
+  }
+
+  updateTwice(g: Geometry, ctx: KernelContext, mid: StepMonitor, ghosts: readonly GhostPlanLike[]): boolean {
+    if (!this.twoStepAllowed()) return false;
+    const arena = this.arenaOf(ctx);
+    if (!arena || g.width < this.lanes()) return false;
+    const tables: number[] = [];
+    for (const s of this.plan.update.stores) {
+      const plan = ghosts[s.field];
+      if (!plan || plan.kind !== 'gather' || !rowLocal(plan, g)) return false;
+      const at = arena.planTable(plan);
+      if (at === null) return false;
+      tables.push(at);
+    }
+    this.writeRunValues(arena, ctx);
+    const inst = this.instance(arena, g);
+    const fn = inst.names.indexOf('t2');
+    if (fn < 0) return false;
+    const f = arena.f64;
+    for (const s of this.plan.update.stores) {
+      for (let slot = 0; slot < 4; slot++) {
+        f[(MONITOR_AT + slot * MONITOR_BYTES + 16 * s.field) / 8] = Infinity;
+        f[(MONITOR_AT + slot * MONITOR_BYTES + 16 * s.field + 8) / 8] = -Infinity;
+      }
+    }
+    const rows = twoStepRows(g, this.dtype, this.plan.update.stores.length);
+    this.runBands(arena, g, fn, [...this.bufArgs(inst.bufs[fn], ctx), ...tables], 0, g.width, 0, g.height, rows);
+    this.threadsUsed = arena.threads > 1 && g.height >= 8 ? 2 : 1;
+    this.readMonitors(f, MONITOR_AT + 2 * MONITOR_BYTES, mid);
+    this.readMonitors(f, MONITOR_AT, ctx.monitor);
+    return true;
+  }
+}
+
+const rowLocalPlans = new WeakMap<object, boolean>();
+/**
+ * Whether a halo plan fills each padded row from rows the two-step pass has in its band buffer: column ghosts from
+ * their own row, ghost rows above from the first hy rows, below from the last hy (reflect; periodic only in 1d).
+ */
+function rowLocal(plan: { dst: Int32Array; src: Int32Array }, g: Geometry): boolean {
+  const hit = rowLocalPlans.get(plan);
+  if (hit !== undefined) return hit;
+  let ok = true;
+  for (let k = 0; k < plan.dst.length && ok; k++) {
+    const p = Math.floor(plan.dst[k] / g.pw), q = Math.floor(plan.src[k] / g.pw);
+    if (p < g.haloY) ok = q >= g.haloY && q < 2 * g.haloY;
+    else if (p >= g.haloY + g.height) ok = q >= g.height && q < g.height + g.haloY;
+    else ok = q === p;
+  }
+  rowLocalPlans.set(plan, ok);
+  return ok;
 }
 
 let nextArenaId = 1;

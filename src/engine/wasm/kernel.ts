@@ -66,7 +66,7 @@ const F64_LANES = {
 
 const VOID = 0x40;
 /** Vectors per loop iteration in the body of a row. */
-const UNROLL = 2;
+const UNROLL = 4;
 
 /** Throws Unsupported for per-pixel operations without a vector form (they run on the JavaScript backend). */
 export function checkVectorisable(kg: KernelGraph, dtype: DType): void {
@@ -214,6 +214,18 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   const mn = monitors ? kg.stores.map(() => fb.local(V128)) : [];
   const mx = monitors ? kg.stores.map(() => fb.local(V128)) : [];
   const nan = monitors ? kg.stores.map(() => fb.local(V128)) : [];
+  /**
+   * Float32 monitors on the bits, as integers: signed and unsigned min and max (four accumulators per store). A
+   * value's bits order like the value among values with the sign bit clear (signed and unsigned alike) and in
+   * reverse among values with it set, which sort above the others as unsigned and below as signed; so the minimum
+   * is the largest unsigned bits when a negative value occurred, else the smallest signed, and the maximum the
+   * largest signed when a value with the sign bit clear occurred, else the smallest unsigned. NaNs sit beyond
+   * ±Infinity and show up in one of the two (then both are reported NaN, below). Integer min/max keep the
+   * monitors off the floating-point add ports, where compares and float min/max would queue behind the sums.
+   */
+  const INTMON = f32;
+  const mnU = monitors && INTMON ? kg.stores.map(() => fb.local(V128)) : [];
+  const mxU = monitors && INTMON ? kg.stores.map(() => fb.local(V128)) : [];
   const sv = fb.local(V128), rowAt = fb.local(I32);
   const usesY = variant.some(n => n.op === 'y');
   const yv = usesY ? fb.local(V128) : -1;
@@ -243,7 +255,18 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
         break;
       case 'y': fb.get(yv); break;
       case 'neg': case 'abs': case 'sqrt': emit(a[0]); fb.simd(T[n.op]); break;
-      case 'add': case 'sub': case 'mul': case 'div': case 'min': case 'max':
+      case 'add': {
+        // p + (-F) is p - F in IEEE arithmetic, bit for bit: a reused flux is subtracted, not negated and added.
+        if (reusedAsIs(a[1])) {
+          emit(a[0]); reusedFlux(a[1]); fb.simd(T.sub);
+        } else if (reusedAsIs(a[0])) {
+          emit(a[1]); reusedFlux(a[0]); fb.simd(T.sub);
+        } else {
+          emit(a[0]); emit(a[1]); fb.simd(T.add);
+        }
+        break;
+      }
+      case 'sub': case 'mul': case 'div': case 'min': case 'max':
       case 'lt': case 'le': case 'gt': case 'ge': case 'eq': case 'ne':
         emit(a[0]); emit(a[1]); fb.simd(T[n.op]); break;
       case 'and': emit(a[0]); emit(a[1]); fb.simd(Simd.and); break;
@@ -263,29 +286,14 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
         break;
       }
       case 'exp': emitExp32(a[0]); break;
-      case 'reusex': {
-        const c = carry.get(a[0]);
-        if (directX || c === undefined) {
+      case 'reusex': case 'reusey':
+        if (!reusable(id)) {
           emit(a[1]);
           break;
         }
-        // Lanes x-1 .. x+L-2 of F: the last lane of the vector before, then the first L-1 lanes of this one.
-        fb.get(c);
-        emit(a[0]);
-        fb.simd(Simd.shuffle);
-        for (let k = 0; k < 16; k++) fb.code.u8(16 - bytes + k);
+        reusedFlux(id);
         fb.simd(T.neg);
         break;
-      }
-      case 'reusey': {
-        const slot = rowSlot.get(a[0]);
-        if (directY || slot === undefined) {
-          emit(a[1]);
-          break;
-        }
-        fb.get(rowAt).mem(Simd.load, align, slot * rowStride + copy * L * bytes, true).simd(T.neg);
-        break;
-      }
       default: throw new Unsupported(`${n.op}()`, n.line);
     }
     if ((uses.get(id) ?? 0) > 1) {
@@ -295,6 +303,31 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
       done.add(id);
     }
   };
+
+  /** Whether a reuse node takes its flux from the vector or row before in the current emission mode. */
+  function reusable(id: number): boolean {
+    const n = nodes[id];
+    if (n.op === 'reusex') return !directX && carry.has(n.args[0]);
+    if (n.op === 'reusey') return !directY && rowSlot.has(n.args[0]);
+    return false;
+  }
+  /** A reuse node used once, not yet computed: its sum can subtract the flux F instead of adding -F. */
+  function reusedAsIs(id: number): boolean {
+    return reusable(id) && (uses.get(id) ?? 0) <= 1 && !done.has(id);
+  }
+  /** Pushes F, the flux the reuse node's value is minus of: from the vector before (x) or the row above (y). */
+  function reusedFlux(id: number): void {
+    const n = nodes[id];
+    if (n.op === 'reusex') {
+      // Lanes x-1 .. x+L-2 of F: the last lane of the vector before, then the first L-1 lanes of this one.
+      fb.get(carry.get(n.args[0]) as number);
+      emit(n.args[0]);
+      fb.simd(Simd.shuffle);
+      for (let k = 0; k < 16; k++) fb.code.u8(16 - bytes + k);
+    } else {
+      fb.get(rowAt).mem(Simd.load, align, (rowSlot.get(n.args[0]) as number) * rowStride + copy * L * bytes, true);
+    }
+  }
 
   const scratch = (): number => tmp.pop() ?? fb.local(V128);
   const release = (l: number): void => {
@@ -328,7 +361,15 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   }
 
   // ---- loops.
+  const i32s = (v: number): number[] => [v | 0, v | 0, v | 0, v | 0];
   for (let k = 0; k < mn.length; k++) {
+    if (INTMON) {
+      fb.v128c(i32s(0x7f800000), 'i32').set(mn[k]); // signed min of the bits; +Infinity when the band is empty
+      fb.v128c(i32s(0x80000000), 'i32').set(mx[k]); // signed max
+      fb.v128c(i32s(0xff800000), 'i32').set(mnU[k]); // unsigned min; -Infinity when the band is empty
+      fb.v128c(i32s(0), 'i32').set(mxU[k]); // unsigned max
+      continue;
+    }
     constV(Infinity); fb.set(mn[k]);
     constV(-Infinity); fb.set(mx[k]);
     constV(0); fb.set(nan[k]);
@@ -345,7 +386,12 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
         emit(s.node);
         fb.set(sv);
         fb.get(addr[storeBufs[k]]).get(sv).mem(Simd.store, align, (geo.hy * geo.pw + geo.hx + copy * L) * bytes, true);
-        if (monitors) {
+        if (monitors && INTMON) {
+          fb.get(mn[k]).get(sv).simd(Simd.i32x4MinS).set(mn[k]);
+          fb.get(mx[k]).get(sv).simd(Simd.i32x4MaxS).set(mx[k]);
+          fb.get(mnU[k]).get(sv).simd(Simd.i32x4MinU).set(mnU[k]);
+          fb.get(mxU[k]).get(sv).simd(Simd.i32x4MaxU).set(mxU[k]);
+        } else if (monitors) {
           // pmin/pmax are single instructions (min/max with NaN propagation are long sequences, and they sit on the
           // loop-carried chain); NaN is tracked on its own lane mask instead.
           fb.get(mn[k]).get(sv).simd(T.pmin).set(mn[k]);
@@ -386,7 +432,7 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
       }
     }
     fb.get(X0).set(x);
-    // Two vectors per iteration while they fit (less loop and address work per pixel)...
+    // UNROLL vectors per iteration while they fit (less loop and address work per pixel)...
     directX = false;
     directY = firstRow;
     fb.op(Op.block, VOID, Op.loop, VOID);
@@ -395,7 +441,7 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
     fb.get(x).i32c(UNROLL * L).op(Op.i32Add).set(x);
     fb.op(Op.br).code.u32(0);
     fb.op(Op.end, Op.end);
-    // ...then at most two more single vectors, the last one ending at the row's end (it may overlap the one before,
+    // ...then single vectors, the last one ending at the row's end (it may overlap the one before,
     // so it computes reused fluxes directly).
     directX = true;
     directY = true;
@@ -431,6 +477,13 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   // Monitors: reduce the lanes and merge (min, max) as Float64 into the monitor slot.
   kg.stores.forEach((s, k) => {
     if (!monitors) return;
+    if (INTMON) {
+      // min: the largest unsigned bits if some lane held a negative value (sign bit set), else the smallest signed;
+      // max: the largest signed bits if some lane held a value with the sign bit clear, else the smallest unsigned.
+      fb.get(mxU[k]).get(mn[k]).get(mxU[k]).v128c(i32s(0), 'i32').simd(Simd.i32x4LtS).simd(Simd.bitselect).set(mn[k]);
+      fb.get(mx[k]).get(mnU[k]).get(mx[k]).v128c(i32s(0), 'i32').simd(Simd.i32x4GeS).simd(Simd.bitselect).set(mx[k]);
+      fb.get(mn[k]).get(mn[k]).simd(T.ne).get(mx[k]).get(mx[k]).simd(T.ne).simd(Simd.or).set(nan[k]);
+    }
     for (const [v, off, red] of [[mn[k], 0, 'min'], [mx[k], 8, 'max']] as const) {
       fb.get(MON);
       for (let lane = 0; lane < L; lane++) {
@@ -446,4 +499,85 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
     }
   });
   return { body: fb, bufs };
+}
+
+/**
+ * Two steps in one pass (temporal blocking), as the driver function `emitTwoStep` builds: per chunk of rows
+ * [ya, yb), step s + 1 of the rows [ya - hy, yb + hy) goes into a per-thread band buffer T (one per updated field,
+ * after the thread's row-flux scratch), T's halo cells are refilled from the field's gather plan, and step s + 2 of
+ * the chunk goes from T into the next buffers. T holds TWO_STEP_SLACK + rows + 4·hy + 1 rows of the padded width.
+ */
+export const TWO_STEP_SLACK_ROWS = 1;
+export function twoStepSlotBytes(pw: number, hy: number, rows: number, dtype: DType): number {
+  const bytes = dtype === 'float32' ? 4 : 8;
+  return Math.ceil(((rows + 4 * hy + 1 + TWO_STEP_SLACK_ROWS) * pw * bytes + 64) / 16) * 16;
+}
+/** Bytes of a field's halo plan table: row starts (ph + 1 Int32), then (dst, src) Int32 pairs. */
+export function planTableBytes(ph: number, entries: number): number {
+  return Math.ceil((4 * (ph + 1) + 8 * entries) / 16) * 16;
+}
+
+export interface TwoStepGeometry extends KernelGeometry {
+  readonly ph: number;
+  /** Rows per chunk the T buffers are sized for. */
+  readonly rows: number;
+}
+
+/**
+ * The two-step driver. Arguments: the update kernel's buffer bases (c: current, d: next; `bufs`), one plan table
+ * address per store of the update (in store order), then x0, x1, ya, yb, monitor address, scratch (as a kernel).
+ * Step s + 1's monitors go to the monitor address + 2 slots (redundant rows computed by two chunks count twice,
+ * which min and max do not notice), step s + 2's to the monitor address itself.
+ */
+export function emitTwoStep(kg: KernelGraph, bufs: readonly BufId[], dtype: DType, geo: TwoStepGeometry, kernelIndex: number): FnBody {
+  const bytes = dtype === 'float32' ? 4 : 8, align = dtype === 'float32' ? 2 : 3;
+  const H = geo.ph - 2 * geo.hy, hy = geo.hy, pw = geo.pw;
+  const nb = bufs.length, ns = kg.stores.length;
+  const fb = new FnBody([...bufs.map((): ValType => I32), ...kg.stores.map((): ValType => I32), I32, I32, I32, I32, I32, I32], []);
+  const P = nb, X0 = nb + ns, X1 = X0 + 1, YA = X0 + 2, YB = X0 + 3, MON = X0 + 4, SCR = X0 + 5;
+  const r0 = fb.local(I32), r1 = fb.local(I32), e = fb.local(I32), end = fb.local(I32), pairs = fb.local(I32), at = fb.local(I32);
+  const tb = kg.stores.map(() => fb.local(I32));
+  const slot = new Map(kg.stores.map((s, j) => [s.field, j] as const));
+  const slotBytes = twoStepSlotBytes(pw, hy, geo.rows, dtype);
+  // r0 = max(0, ya - hy), r1 = min(H, yb + hy): the rows of step s + 1 this chunk needs.
+  fb.get(YA).i32c(hy).op(Op.i32Sub).i32c(0).get(YA).i32c(hy).op(Op.i32Sub).i32c(0).op(Op.i32GtS, Op.select).set(r0);
+  fb.get(YB).i32c(hy).op(Op.i32Add).i32c(H).get(YB).i32c(hy).op(Op.i32Add).i32c(H).op(Op.i32LtS, Op.select).set(r1);
+  // T's virtual base: padded row ya - hy sits TWO_STEP_SLACK_ROWS rows into the slot (i32 arithmetic wraps).
+  kg.stores.forEach((_, j) => {
+    fb.get(SCR).i32c(rowFluxBytes(pw, dtype) + j * slotBytes + TWO_STEP_SLACK_ROWS * pw * bytes).op(Op.i32Add);
+    fb.get(YA).i32c(hy).op(Op.i32Sub).i32c(pw * bytes).op(Op.i32Mul, Op.i32Sub).set(tb[j]);
+  });
+  const callKernel = (first: boolean): void => {
+    bufs.forEach((b, k) => {
+      const j = slot.get(b.index);
+      if (first && b.kind === 'd') fb.get(tb[j as number]);
+      else if (!first && b.kind === 'c' && j !== undefined) fb.get(tb[j]);
+      else fb.get(k);
+    });
+    fb.get(X0).get(X1);
+    if (first) fb.get(r0).get(r1).get(MON).i32c(2 * MONITOR_BYTES).op(Op.i32Add);
+    else fb.get(YA).get(YB).get(MON);
+    fb.get(SCR).op(Op.call).code.u32(IMPORTS.length + kernelIndex);
+  };
+  callKernel(true);
+  // Halo of T: the plan entries of padded rows [r0 + hy, r1 + hy), widened to the ghost rows at the image's edges.
+  kg.stores.forEach((_, j) => {
+    const tab = P + j;
+    // first padded row: 0 when r0 = 0, else r0 + hy; last (exclusive): ph when r1 = H, else r1 + hy.
+    fb.get(tab).i32c(0).get(r0).i32c(hy).op(Op.i32Add).get(r0).op(Op.i32Eqz, Op.select).i32c(2).op(Op.i32Shl, Op.i32Add).mem(Op.i32Load, 2, 0).set(e);
+    fb.get(tab).i32c(geo.ph).get(r1).i32c(hy).op(Op.i32Add).get(r1).i32c(H).op(Op.i32LtS, Op.i32Eqz, Op.select).i32c(2).op(Op.i32Shl, Op.i32Add).mem(Op.i32Load, 2, 0).set(end);
+    fb.get(tab).i32c(4 * (geo.ph + 1)).op(Op.i32Add).set(pairs);
+    fb.op(Op.block, VOID, Op.loop, VOID);
+    fb.get(e).get(end).op(Op.i32GeS, Op.brIf).code.u32(1);
+    fb.get(pairs).get(e).i32c(3).op(Op.i32Shl, Op.i32Add).set(at);
+    // T[dst] = T[src]
+    fb.get(tb[j]).get(at).mem(Op.i32Load, 2, 0).i32c(Math.log2(bytes)).op(Op.i32Shl, Op.i32Add);
+    fb.get(tb[j]).get(at).mem(Op.i32Load, 2, 4).i32c(Math.log2(bytes)).op(Op.i32Shl, Op.i32Add);
+    fb.mem(bytes === 4 ? Op.f32Load : Op.f64Load, align, 0).mem(bytes === 4 ? Op.f32Store : Op.f64Store, align, 0);
+    fb.get(e).i32c(1).op(Op.i32Add).set(e);
+    fb.op(Op.br).code.u32(0);
+    fb.op(Op.end, Op.end);
+  });
+  callKernel(false);
+  return fb;
 }

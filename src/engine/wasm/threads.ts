@@ -7,6 +7,20 @@ import type { WasmMemory, WasmModule } from './wasmApi';
 
 /** Mailbox slots (Int32). */
 const SEQ = 0, STATE = 1, CFG = 2, FN = 3, NARGS = 4, ERROR = 5, CTR = 6, YA = 7, YB = 8, ROWS = 9, MON = 10, SCRATCH = 11, ARGS = 12, SLOTS = 80;
+
+/**
+ * The chunk counter packs the next chunk from the front (low 16 bits) and the end of the chunks left (high 16 bits);
+ * the caller claims from the front, the helper from the back, each with a compare-and-swap. Return -1 when none is left.
+ */
+function claimFront(m: Int32Array): number {
+  for (;;) {
+    const w = Atomics.load(m, CTR);
+    const lo = w & 0xffff, hi = w >>> 16;
+    if (lo >= hi) return -1;
+    if (Atomics.compareExchange(m, CTR, w, (lo + 1) | (hi << 16)) === w) return lo;
+  }
+}
+
 /** Job states: the caller cancels a job the helper has not picked up by the time the caller ran out of chunks. */
 const PENDING = 1, RUNNING = 2, DONE = 3, CANCELLED = 4;
 
@@ -18,6 +32,14 @@ const PENDING = 1, RUNNING = 2, DONE = 3, CANCELLED = 4;
  */
 const WORKER_SOURCE = `
 const { workerData, receiveMessageOnPort } = require('node:worker_threads');
+function claimBack(m) {
+  for (;;) {
+    const w = Atomics.load(m, ${CTR});
+    const lo = w & 0xffff, hi = w >>> 16;
+    if (lo >= hi) return -1;
+    if (Atomics.compareExchange(m, ${CTR}, w, lo | ((hi - 1) << 16)) === w) return hi - 1;
+  }
+}
 const mail = new Int32Array(workerData.mail);
 const port = workerData.port;
 const math = { exp: Math.exp, log: Math.log, sin: Math.sin, cos: Math.cos, tanh: Math.tanh, sign: Math.sign, pow: Math.pow };
@@ -48,8 +70,9 @@ for (;;) {
     const fn = fns[mail[${FN}]], n = mail[${NARGS}], args = [];
     for (let k = 0; k < n; k++) args.push(mail[${ARGS} + k]);
     const ya = mail[${YA}], yb = mail[${YB}], rows = mail[${ROWS}], mon = mail[${MON}], scratch = mail[${SCRATCH}];
-    const chunks = Math.ceil((yb - ya) / rows);
-    for (let k; (k = Atomics.add(mail, ${CTR}, 1)) < chunks;) fn(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mon, scratch);
+    // Chunks from the back (the caller takes them from the front): each thread keeps to its end of the image from
+    // step to step, and so to the rows its cache holds.
+    for (let k; (k = claimBack(mail)) >= 0;) fn(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mon, scratch);
   } catch (e) {
     Atomics.store(mail, ${ERROR}, 1);
   }
@@ -70,7 +93,14 @@ export interface Helper {
   holds: string | null;
   seq: number;
   cfg: number;
+  /** Jobs in a row where the helper was no help (never came, or kept the caller waiting longer than it worked). */
+  slow: number;
+  /** Until this time (performance.now()) the caller runs every chunk alone: the helper gets no CPU, it seems. */
+  soloUntil: number;
 }
+
+/** After this many slow jobs in a row the caller works alone for SOLO_MS, then tries the helper again. */
+const SLOW_JOBS = 3, SOLO_MS = 10;
 
 let helper: Helper | null | undefined;
 let forceHelper = false;
@@ -86,6 +116,15 @@ function builtin<T>(name: string): T | null {
     return (p?.getBuiltinModule?.(name) as T | undefined) ?? null;
   } catch {
     return null;
+  }
+}
+
+function noteHelper(h: Helper, slow: boolean, now: number): void {
+  if (forceHelper) return;
+  h.slow = slow ? h.slow + 1 : 0;
+  if (h.slow >= SLOW_JOBS) {
+    h.slow = 0;
+    h.soloUntil = now + SOLO_MS;
   }
 }
 
@@ -109,7 +148,7 @@ export function getHelper(): Helper | null {
     // Neither the thread nor its port may keep a finished CLI run (or a test process) alive.
     worker.unref();
     port1.unref?.();
-    helper = { mail, post: m => port1.postMessage(m), holds: null, seq: 0, cfg: 0 };
+    helper = { mail, post: m => port1.postMessage(m), holds: null, seq: 0, cfg: 0, slow: 0, soloUntil: 0 };
   } catch {
     helper = null;
   }
@@ -120,7 +159,9 @@ export function getHelper(): Helper | null {
  * Runs `call` (this thread's instance of function `fn`) over rows [ya, yb) in chunks shared with the helper through
  * an atomic counter, so a helper that is late (a busy machine) costs nothing: the caller takes every chunk left and
  * cancels the job if the helper has not claimed it. Each chunk computes exactly what one call over all rows would,
- * so the result does not depend on who ran which chunk. Returns how many threads took part.
+ * so the result does not depend on who ran which chunk. On a machine whose other core is busy the helper only
+ * steals time from the caller: after a few jobs where it never came or kept the caller waiting longer than the
+ * caller worked, the caller works alone for a while. Returns how many threads took part.
  */
 export function runShared(
   h: Helper, key: string, module: WasmModule, memory: WasmMemory, names: readonly string[], fn: number,
@@ -129,6 +170,13 @@ export function runShared(
 ): number {
   const m = h.mail;
   if (args.length > SLOTS - ARGS) throw new Error('too many kernel arguments for the helper thread');
+  if (!forceHelper && h.soloUntil > 0) {
+    if (performance.now() < h.soloUntil) {
+      for (let y = ya; y < yb; y += rows) call(...args, y, Math.min(yb, y + rows), mine.mon, mine.scratch);
+      return 1;
+    }
+    h.soloUntil = 0;
+  }
   if (h.holds !== key) {
     h.post({ module, memory, names });
     h.cfg++;
@@ -143,25 +191,31 @@ export function runShared(
   m[ROWS] = rows;
   m[MON] = theirs.mon;
   m[SCRATCH] = theirs.scratch;
-  Atomics.store(m, CTR, 0);
+  const chunks = Math.ceil((yb - ya) / rows);
+  if (chunks > 0x7fff) throw new Error('too many chunks of rows for the helper thread');
+  Atomics.store(m, CTR, chunks << 16);
   Atomics.store(m, STATE, PENDING);
   h.seq++;
   Atomics.store(m, SEQ, h.seq);
   Atomics.notify(m, SEQ);
-  const chunks = Math.ceil((yb - ya) / rows);
   if (forceHelper) {
     // Test mode: this thread runs the first half itself and waits for the helper to run the rest.
     const half = chunks >> 1;
-    Atomics.store(m, CTR, half);
-    for (let k = 0; k < half; k++) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mine.mon, mine.scratch);
+    for (let n = 0, k; n < half && (k = claimFront(m)) >= 0; n++) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mine.mon, mine.scratch);
     while (Atomics.load(m, STATE) === PENDING) Atomics.wait(m, STATE, PENDING, 50);
   }
-  for (let k; (k = Atomics.add(m, CTR, 1)) < chunks;) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mine.mon, mine.scratch);
-  if (Atomics.compareExchange(m, STATE, PENDING, CANCELLED) === PENDING) return 1;
+  const t0 = performance.now();
+  for (let k; (k = claimFront(m)) >= 0;) call(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mine.mon, mine.scratch);
+  const t1 = performance.now();
+  if (Atomics.compareExchange(m, STATE, PENDING, CANCELLED) === PENDING) {
+    noteHelper(h, true, t1);
+    return 1;
+  }
   // The helper is on its last chunk: a short spin, then sleep until it reports.
-  const until = performance.now() + 0.2;
+  const until = t1 + 0.2;
   while (Atomics.load(m, STATE) === RUNNING && performance.now() < until) { /* spin */ }
   while (Atomics.load(m, STATE) === RUNNING) Atomics.wait(m, STATE, RUNNING, 1000);
+  noteHelper(h, performance.now() - t1 > t1 - t0, t1);
   if (Atomics.load(m, ERROR) !== 0) {
     Atomics.store(m, ERROR, 0);
     throw new Error('the helper thread failed to run a kernel');

@@ -23,6 +23,9 @@ describe('two threads equal one, bitwise', () => {
     ['gray-scott (two fields, periodic)', example('gray-scott'), 80, 80, 50],
     ['upwind-transport (one-sided offsets, periodic)', example('upwind-transport'), 45, 30, undefined],
     ['wave (primed read)', example('wave'), 64, 64, 40],
+    // No lets, reflect: two steps per pass, each thread with its own band buffers.
+    ['heat-2d (two steps per pass)', example('heat-2d'), 70, 90, 21],
+    ['eight-neighbour (two steps per pass, corners)', example('eight-neighbour'), 50, 77, 20],
   ];
   for (const [what, text, w, h, steps] of cases) {
     it(what, () => {

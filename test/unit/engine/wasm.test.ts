@@ -132,3 +132,38 @@ describe('fluxes through shared faces are computed once', () => {
     });
   }
 });
+
+describe('Float32 monitors agree with the JavaScript kernels', () => {
+  // The SIMD kernels take pmin/pmax of Float32 lanes with a separate NaN mask (kernel.ts); the JavaScript kernels
+  // take Math.min/max of the Float64 values before rounding. Rounded to Float32 they must agree, and so must the
+  // runner's blow-up decision (NaN, or infinite in Float32), wherever in a row the odd value sits (common practice).
+  const HEAD = `grid 2d\nboundary reflect\nstep dt = 0.1\nsteps 1\nfield u = image\n`;
+  const cases: [string, string][] = [
+    ['positive values', `u' = u + 0.5\n`],
+    ['negative values only', `u' = -1 - u\n`],
+    ['mixed signs and zeros', `u' = if x == 2 then -0 else if x == 3 then 0 else u - 0.5\n`],
+    ['-Infinity at one pixel', `u' = if x == 5 and y == 4 then -1e39 else u\n`],
+    ['+Infinity at one pixel', `u' = if x == 6 and y == 1 then 1e39 else -u\n`],
+    ['NaN at one pixel', `u' = if x == 9 and y == 6 then sqrt(-1 - u) else u\n`],
+    ['NaN in the last vector of a row', `u' = if x == 12 then sqrt(-1 - u) else u\n`],
+    ['NaN of the other sign among negative values', `u' = if x == 1 and y == 7 then -sqrt(-1 - u) else -1 - u\n`],
+    ['NaN of either sign', `u' = if x == 1 then -sqrt(-1 - u) else if x == 2 then sqrt(-1 - u) else u\n`],
+    ['only zeros of both signs', `u' = if x == 4 then -0 else 0 * u\n`],
+    ['-Infinity among negative values', `u' = if x == 0 and y == 0 then -1e39 else -1 - u\n`],
+  ];
+  for (const [what, body] of cases) {
+    it(what, () => {
+      const s = schemeOf(HEAD + body);
+      const image = randomImage(13, 9, 4);
+      const monitorAfterStep = (backend: JsBackend | WasmBackend) => {
+        const r = createRun(s, { image, backend, monitors: { extremumCheck: false } });
+        r.step();
+        const M = (r as unknown as { ctx: { monitor: { min: Float64Array; max: Float64Array; bad: Float64Array } } }).ctx.monitor;
+        const min = Math.fround(M.min[0]), max = Math.fround(M.max[0]);
+        // The runner's blow-up test (run.ts, checkMonitors): NaN, or a value that is infinite once in Float32.
+        return { min, max, blowUp: Number.isNaN(M.bad[0]) || !Number.isFinite(min) || !Number.isFinite(max) };
+      };
+      expect(monitorAfterStep(wasm)).toEqual(monitorAfterStep(js));
+    });
+  }
+});

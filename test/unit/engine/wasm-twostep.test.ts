@@ -1,0 +1,117 @@
+// Two steps per pass (temporal blocking) against single steps on the same SIMD kernels: step s + 1 of each chunk
+// of rows is computed into a band buffer (with the rows its neighbours need computed twice) and its halo refilled
+// there, so the results must be bitwise those of single steps, with the same frames, warnings and monitors' findings.
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it, vi } from 'vitest';
+import { JsBackend } from '../../../src/engine/jsBackend';
+import { createRun } from '../../../src/engine/run';
+import type { DType } from '../../../src/engine/types';
+import { WasmBackend } from '../../../src/engine/wasm/backend';
+import { expectClose, randomImage, schemeOf } from './util';
+
+const paired = new WasmBackend({ threads: 1 });
+const single = new WasmBackend({ threads: 1, twoStep: false });
+const js = new JsBackend();
+const example = (name: string) => readFileSync(join(__dirname, '../../../examples', `${name}.fluxel`), 'utf8');
+
+const PM = `grid 2d\nboundary reflect\nparam K = 0.05 in [0, 1]\nstep dt = 0.2\nsteps 13\nfield u = image\n` +
+  `diffusivity g(s) = 1 / (1 + s^2 / K^2)\nu' = u + dt * sum n in N4: g(u[n] - u) * (u[n] - u)\n`;
+
+function compare(text: string, w: number, h: number, opts: { steps?: number; every?: number; dtype?: DType } = {}) {
+  const s = schemeOf(text);
+  const image = s.fields.some(f => f.init.kind === 'image') ? randomImage(w, h, 5) : null;
+  const common = { image, width: w, height: h, steps: opts.steps, every: opts.every, dtype: opts.dtype };
+  // The compiled scheme is cached per backend: the run below uses this very object.
+  const compiled = paired.compile(s, { dtype: opts.dtype ?? 'float32' });
+  const spy = vi.spyOn(compiled, 'updateTwice' as never) as unknown as { mock: { results: { value: unknown }[] }; mockRestore(): void };
+  const a = createRun(s, { ...common, backend: paired }), b = createRun(s, { ...common, backend: single });
+  const progress: number[] = [];
+  const ra = a.runSync({ onProgress: k => progress.push(k) }), rb = b.runSync();
+  s.fields.forEach((f, k) => {
+    const x = a.fieldData(k), y = b.fieldData(k);
+    let same = x.length === y.length;
+    for (let i = 0; i < x.length && same; i++) same = Object.is(x[i], y[i]);
+    expect(same, `${f.name}: paired vs single steps, bitwise`).toBe(true);
+  });
+  expect(ra.frames).toEqual(rb.frames);
+  expect(ra.warnings).toEqual(rb.warnings);
+  expect(ra.status).toBe(rb.status);
+  expect(ra.stepsDone).toBe(rb.stepsDone);
+  // Every step is reported, in order, paired or not.
+  expect(progress).toEqual(Array.from({ length: ra.stepsDone }, (_, k) => k + 1));
+  const passes = spy.mock.results.filter(r => r.value === true).length;
+  spy.mockRestore();
+  return { s, a, ra, common, passes };
+}
+
+describe('two steps per pass equal single steps, bitwise', () => {
+  it('edge-preserving, odd step count (the last step single), sizes that leave a short last chunk', () => {
+    // 13 steps, the last frame measures the change: passes for steps 1-12, then a single step.
+    expect(compare(PM, 61, 203).passes).toBe(6);
+  });
+  it('heat 2d, 5-point, narrow image', () => {
+    expect(compare(example('heat-2d'), 9, 70, { steps: 20 }).passes).toBe(9);
+  });
+  it('eight-neighbour (corners of the halo), with frames every 3 steps', () => {
+    expect(compare(example('eight-neighbour'), 37, 41, { steps: 17, every: 3 }).passes).toBeGreaterThan(0);
+  });
+  it('gray-scott (two fields, periodic: single steps)', () => {
+    expect(compare(example('gray-scott'), 40, 40, { steps: 12 }).passes).toBe(0);
+  });
+  it('heat-1d (rows only)', () => {
+    expect(compare(example('heat-1d'), 203, 3, { steps: 21 }).passes).toBe(10);
+  });
+  it('wave (a primed read, two fields)', () => {
+    expect(compare(example('wave'), 48, 37, { steps: 16 }).passes).toBeGreaterThan(0);
+  });
+  it('Float64', () => {
+    expect(compare(PM, 30, 50, { dtype: 'float64' }).passes).toBe(6);
+  });
+  it('a wide halo (offsets of 2)', () => {
+    expect(compare(`grid 2d\nboundary reflect\nstep dt = 0.05\nsteps 11\nfield u = image\nu' = u + dt * (u[2,0] + u[-2,0] + u[0,2] + u[0,-2] - 4 * u)\n`, 33, 90).passes).toBe(5);
+  });
+  it('a blow-up between the two steps of a pass is found at the same step and pixel', () => {
+    const { ra } = compare(`grid 2d\nboundary reflect\nstep dt = 1\nsteps 10\nfield u = image\nu' = if y > 40 then u * 1e9 else u\n`, 24, 48);
+    expect(ra.status).toBe('blow-up');
+  });
+  it('growth and new-extremum warnings at the same steps', () => {
+    // Heat beyond its positivity limit 1/4 (a checkerboard mode grows by |1 - 8·0.3| = 1.4 per step).
+    const { ra, passes } = compare(example('heat-2d').replace(/step dt = [0-9.]+/, 'step dt = 0.3'), 40, 40, { steps: 60 });
+    expect(ra.warnings.map(w => w.kind).sort()).toEqual(['growth', 'new-extremum']);
+    expect(passes).toBeGreaterThan(0);
+  });
+  it('a cancel between the two steps of a pass ends the run after the first, as with single steps', () => {
+    const s = schemeOf(PM);
+    const image = randomImage(40, 30, 8);
+    for (const stop of [5, 6]) {
+      const a = createRun(s, { image, steps: 12, backend: paired });
+      let seen = 0;
+      const calls: string[] = [];
+      const r = a.runSync({ onProgress: k => { seen = k; calls.push(`p${k}`); }, shouldCancel: () => { calls.push('c'); return seen >= stop; } });
+      expect([r.status, r.stepsDone]).toEqual(['cancelled', stop]);
+      // The same callbacks in the same order as single steps: ask, step, report.
+      expect(calls).toEqual([...Array.from({ length: stop }, (_, k) => ['c', `p${k + 1}`]).flat(), 'c']);
+      const b = createRun(s, { image, steps: stop, backend: single });
+      b.runSync();
+      expectClose(a.fieldData(0), b.fieldData(0), 0, `cancelled after step ${stop}`);
+    }
+  });
+  it('no passes when onProgress reads the fields (everyStep)', () => {
+    const s = schemeOf(PM);
+    const compiled = paired.compile(s, { dtype: 'float32' });
+    const spy = vi.spyOn(compiled, 'updateTwice' as never) as unknown as { mockRestore(): void };
+    const r = createRun(s, { image: randomImage(20, 20, 2), steps: 10, backend: paired });
+    const means: number[] = [];
+    r.runSync({ everyStep: true, onProgress: () => means.push(Array.from(r.fieldData(0)).reduce((x, y) => x + y, 0)) });
+    expect(spy).not.toHaveBeenCalled();
+    expect(means.length).toBe(10);
+    spy.mockRestore();
+  });
+  it('equals the JavaScript backend within 1e-6 (Float32)', () => {
+    const { s, a, common } = compare(PM, 64, 64, { steps: 20 });
+    const c = createRun(s, { ...common, backend: js });
+    c.runSync();
+    expectClose(a.fieldData(0), c.fieldData(0), 1e-6, 'paired wasm vs js');
+  });
+});
