@@ -27,8 +27,8 @@ export function jsNumber(v: unknown): string {
 
 type Kind = 'init' | 'let' | 'update';
 
-/** Statements being emitted, with a counter for fresh temporaries. */
-class Emitter {
+/** Statements being emitted, with a counter for fresh temporaries (also used by dualCodegen.ts). */
+export class Emitter {
   lines: string[] = [];
   /** Loop-invariant statements (params, constants, dt, t only), placed before the pixel loops. */
   readonly hoisted: string[] = [];

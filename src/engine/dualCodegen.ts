@@ -13,7 +13,7 @@
 
 import type { Expr } from '../notation/ast';
 import type { CheckedScheme, Offset } from '../notation/scheme';
-import { jsNumber, Names } from './codegen';
+import { Emitter, jsNumber, Names } from './codegen';
 import { EngineError, offsetComponent } from './plan';
 import type { DType } from './types';
 
@@ -35,45 +35,6 @@ const ROOT: Env = { locals: new Map(), offsets: new Map(), depth: 0 };
 
 type Kind = 'init' | 'let' | 'update' | 'constant';
 
-class DualEmitter {
-  lines: string[] = [];
-  private memo: Map<string, string>[] = [new Map()];
-  private n = 0;
-  readonly offsets = new Map<string, string>();
-  temp(): string {
-    return `v${this.n++}`;
-  }
-  lookup(js: string): string | undefined {
-    return this.memo[this.memo.length - 1].get(js);
-  }
-  remember(js: string, name: string): void {
-    this.memo[this.memo.length - 1].set(js, name);
-  }
-  pushScope(): void {
-    this.memo.push(new Map(this.memo[this.memo.length - 1]));
-  }
-  popScope(): void {
-    this.memo.pop();
-  }
-  offset(o: Offset): string {
-    const key = o.join(',');
-    let name = this.offsets.get(key);
-    if (!name) {
-      name = `o${this.offsets.size}`;
-      this.offsets.set(key, name);
-    }
-    return name;
-  }
-  offsetDecls(): string[] {
-    const out: string[] = [];
-    for (const [key, name] of this.offsets) {
-      const [dx, dy] = key.split(',').map(Number);
-      out.push(`const ${name} = ${jsNumber(dx)} + ${jsNumber(dy ?? 0)} * pw;`);
-    }
-    return out;
-  }
-}
-
 /** Lowers expressions to duals. `wrt` lists the chosen names in tangent order. */
 class DualLowering {
   readonly nt: number;
@@ -81,7 +42,7 @@ class DualLowering {
   constructor(
     readonly scheme: CheckedScheme,
     readonly names: Names,
-    readonly em: DualEmitter,
+    readonly em: Emitter,
     readonly kind: Kind,
     readonly wrt: readonly string[],
     readonly primedReady: Set<number>,
@@ -413,7 +374,7 @@ export function generateDualSource(scheme: CheckedScheme, dtype: DType, wrt: rea
       inits.push('null');
       return;
     }
-    const em = new DualEmitter();
+    const em = new Emitter();
     const low = new DualLowering(scheme, names, em, 'init', wrt, new Set(), dtype);
     const r = low.lower(f.init.expr, ROOT);
     out.push(
@@ -429,7 +390,7 @@ export function generateDualSource(scheme: CheckedScheme, dtype: DType, wrt: rea
   scheme.lets.forEach((l, k) => {
     if (l.kind !== 'expr') {
       lets.push('null');
-      const em = new DualEmitter();
+      const em = new Emitter();
       const low = new DualLowering(scheme, names, em, 'constant', wrt, new Set(), dtype);
       const r = low.lower(l.sigma, ROOT);
       out.push(
@@ -441,7 +402,7 @@ export function generateDualSource(scheme: CheckedScheme, dtype: DType, wrt: rea
       return;
     }
     sigmas.push('null');
-    const em = new DualEmitter();
+    const em = new Emitter();
     const low = new DualLowering(scheme, names, em, 'let', wrt, new Set(), dtype);
     const r = low.lower(l.expr, ROOT);
     const ey = scheme.dims === 2 ? 'e' : '0';
@@ -453,7 +414,7 @@ export function generateDualSource(scheme: CheckedScheme, dtype: DType, wrt: rea
     lets.push(`let${k}`);
   });
 
-  const em = new DualEmitter();
+  const em = new Emitter();
   const ready = new Set<number>();
   const low = new DualLowering(scheme, names, em, 'update', wrt, ready, dtype);
   const body: string[] = [];
