@@ -2,10 +2,11 @@
 // is available, the stability verdict and what the scheme approximates (the modified equation; JSON key
 // "approximates", null while the file has errors). Exit 1 when there are errors, 0 otherwise.
 
-import { readFileSync } from 'node:fs';
+import { readFileSync, promises as fsp } from 'node:fs';
 import { parseAndCheck } from '../notation';
 import type { Program } from '../notation/ast';
 import type { Diagnostic } from '../notation/diagnostics';
+import type { CheckedScheme } from '../notation/scheme';
 import { guard, parseCommandLine, UsageError } from './args';
 import { stabilityForCheck } from './stabilityHook';
 
@@ -79,4 +80,25 @@ export function jsonDiagnostic(d: Diagnostic): Record<string, unknown> {
   };
   if (d.related?.length) out.related = d.related.map((r) => ({ message: r.message, range: { start: pos(r.range.start), end: pos(r.range.end) } }));
   return out;
+}
+
+/**
+ * Reads and checks the scheme a command runs: its text and checked scheme, or null after printing why on stderr
+ * (an unreadable file, or its errors as `file:line:col error code message`), which the command turns into exit 1.
+ */
+export async function loadScheme(command: string, file: string): Promise<{ text: string; scheme: CheckedScheme } | null> {
+  let text: string;
+  try {
+    text = await fsp.readFile(file, 'utf8');
+  } catch (err) {
+    process.stderr.write(`fluxel ${command}: cannot read ${file}: ${(err as NodeJS.ErrnoException).code ?? String(err)}\n`);
+    return null;
+  }
+  const checked = parseAndCheck(text);
+  const errors = checked.diagnostics.filter((d) => d.severity === 'error');
+  if (!checked.scheme || errors.length) {
+    for (const d of errors) process.stderr.write(formatDiagnostic(file, d) + '\n');
+    return null;
+  }
+  return { text, scheme: checked.scheme };
 }

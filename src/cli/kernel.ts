@@ -5,15 +5,13 @@
 // along the recorded trajectory): how much each pixel of the state at step S changes the pixel's value at S + N.
 // Node-only front end over src/engine, src/analysis, src/images and src/notation; must not import vscode.
 
-import { promises as fs } from 'node:fs';
 import { impulseResponse, kernelAt, type ImpulseResponse, type KernelWeights } from '../analysis/kernel';
 import { influenceMap, type InfluenceMap } from '../analysis/influence';
 import { createRun, EngineError, recordTrajectory, type RunImage } from '../engine';
-import { parseAndCheck } from '../notation';
 import type { CheckedScheme } from '../notation/scheme';
 import { guard, parseCommandLine, UsageError, sizeArg, wholeArg } from './args';
 import { inputFailure, loadInputs, type LoadedInputs } from './inputs';
-import { formatDiagnostic } from './check';
+import { loadScheme } from './check';
 
 const USAGE = [
   'usage: fluxel kernel FILE --at X,Y [--input PATH [--range LO:HI] | --scene NAME [--noise SIGMA] [--seed N]] [--size WxH]',
@@ -229,20 +227,9 @@ export function kernelMain(argv: string[]): Promise<number> {
     const linearised = (o.linearised ?? false) || (o.linearized ?? false);
     const size = sizeArg(o.size, USAGE);
 
-    let text: string;
-    try {
-      text = await fs.readFile(file, 'utf8');
-    } catch (err) {
-      process.stderr.write(`fluxel kernel: cannot read ${file}: ${(err as NodeJS.ErrnoException).code ?? String(err)}\n`);
-      return 1;
-    }
-    const checked = parseAndCheck(text);
-    const errors = checked.diagnostics.filter((d) => d.severity === 'error');
-    if (!checked.scheme || errors.length) {
-      for (const d of errors) process.stderr.write(formatDiagnostic(file, d) + '\n');
-      return 1;
-    }
-    const scheme = checked.scheme;
+    const loaded = await loadScheme('kernel', file);
+    if (!loaded) return 1;
+    const { scheme } = loaded;
     const field = o.field ?? scheme.updates[0]?.field;
     if (field === undefined) {
       process.stderr.write(`fluxel kernel: ${file}: the scheme has no update, so no pixel has weights.\n`);

@@ -19,7 +19,7 @@ import { createRun, EngineError, type RunImage, type RunWarning } from '../engin
 import { BACKEND_CHOICES, backendByName, type BackendChoice } from '../engine/wasm/select';
 import { guard, parseCommandLine, UsageError, numberArg, sizeArg, wholeArg } from './args';
 import { inputFailure, loadInputs, type InputRecord, type LoadedInputs } from './inputs';
-import { formatDiagnostic } from './check';
+import { formatDiagnostic, loadScheme } from './check';
 import { bestStepTracker, pictureField } from '../tune/evaluate';
 import { psnr as psnrOf, ssim as ssimOf, totalVariation } from '../analysis/metrics';
 import type { CheckedScheme } from '../notation/scheme';
@@ -131,20 +131,9 @@ async function runCommand(argv: string[], expected: Expected | null): Promise<nu
     }
     const size = sizeArg(o.size, USAGE);
 
-    let text: string;
-    try {
-      text = await fs.readFile(file, 'utf8');
-    } catch (err) {
-      process.stderr.write(`fluxel run: cannot read ${file}: ${(err as NodeJS.ErrnoException).code ?? String(err)}\n`);
-      return 1;
-    }
-    const checked = parseAndCheck(text);
-    const errors = checked.diagnostics.filter(d => d.severity === 'error');
-    if (!checked.scheme || errors.length) {
-      for (const d of errors) process.stderr.write(formatDiagnostic(file, d) + '\n');
-      return 1;
-    }
-    const scheme = checked.scheme;
+    const loaded = await loadScheme('run', file);
+    if (!loaded) return 1;
+    const { text, scheme } = loaded;
     const sourceHash = createHash('sha256').update(text).digest('hex');
     if (expected && sourceHash !== expected.sourceHash) {
       process.stderr.write(`fluxel run: replay of ${expected.statsPath}: ${file} has changed since the run (source SHA-256 ${sourceHash}, recorded ${expected.sourceHash}).\n`);

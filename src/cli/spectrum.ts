@@ -4,16 +4,14 @@
 // (src/tune/heatmap.ts) and is written atomically. Exactly one JSON document on stdout with --json.
 // Node-only front end; must not import vscode.
 
-import { promises as fs } from 'node:fs';
 import { amplitudeOverDt, frequencyMap, frequencyMapJson, type DtAmplitudeMap, type FrequencyMap } from '../analysis/spectrum';
 import { createRun, EngineError, type RunImage } from '../engine';
 import { readImageFile, writeFileAtomically } from '../images/files';
 import { makeScene } from '../images/scenes';
 import { ImageError } from '../images/types';
-import { parseAndCheck } from '../notation';
 import { encodeRgbPng, renderHeatmap } from '../tune/heatmap';
 import { guard, numberArg, parseCommandLine, rangeArg, sizeArg, UsageError, wholeArg } from './args';
-import { formatDiagnostic } from './check';
+import { loadScheme } from './check';
 
 const USAGE = [
   'usage: fluxel spectrum FILE [--out PATH.png] [--json] [--samples N] [--radius R] [--field NAME]',
@@ -127,20 +125,9 @@ export function spectrumMain(argv: string[]): Promise<number> {
     if (radius !== undefined && !(radius > 0 && radius <= Math.PI)) throw new UsageError(`--radius is a frequency in (0, π], got ${o.radius}.\n${USAGE}`);
     const size = sizeArg(o.size, USAGE);
     const range = rangeArg(o.range, USAGE);
-    let text: string;
-    try {
-      text = await fs.readFile(file, 'utf8');
-    } catch (err) {
-      process.stderr.write(`fluxel spectrum: cannot read ${file}: ${(err as NodeJS.ErrnoException).code ?? String(err)}\n`);
-      return 1;
-    }
-    const checked = parseAndCheck(text);
-    const errors = checked.diagnostics.filter((d) => d.severity === 'error');
-    if (!checked.scheme || errors.length) {
-      for (const d of errors) process.stderr.write(formatDiagnostic(file, d) + '\n');
-      return 1;
-    }
-    const scheme = checked.scheme;
+    const loaded = await loadScheme('spectrum', file);
+    if (!loaded) return 1;
+    const { scheme } = loaded;
     if (scheme.updates.length === 0) {
       process.stderr.write(`fluxel spectrum: ${file}: the scheme has no update, so there is no amplification to show.\n`);
       return 1;
