@@ -29,7 +29,16 @@ export function gaussianTaps(sigma: number): Float64Array {
  * NB: in 1d schemes only the x pass runs (rows are independent).
  */
 export function blurInto(dst: FieldArray, src: FieldArray, tmp: FieldArray, g: Geometry, taps: Float64Array, extent: number, dims: 1 | 2): void {
-  const r = (taps.length - 1) >> 1;
+  separableInto(dst, src, tmp, g, taps, taps, extent, dims);
+}
+
+/**
+ * dst = (ty ∘ tx) src over the image extended by `extent` (x pass first; 1d: only the x pass), or dst += that with
+ * `add`; tx and ty have the same length. blurInto is the case tx = ty; the sensitivity mode also filters with the
+ * taps' derivative along one axis.
+ */
+export function separableInto(dst: FieldArray, src: FieldArray, tmp: FieldArray, g: Geometry, tx: Float64Array, ty: Float64Array, extent: number, dims: 1 | 2, add = false): void {
+  const r = (tx.length - 1) >> 1;
   const { width: W, height: H, pw, haloX: hx, haloY: hy } = g;
   const ey = dims === 2 ? extent : 0;
   const ry = dims === 2 ? r : 0;
@@ -39,8 +48,9 @@ export function blurInto(dst: FieldArray, src: FieldArray, tmp: FieldArray, g: G
     let i = (y + hy) * pw + hx - extent;
     for (let x = -extent; x < W + extent; x++, i++) {
       let s = 0;
-      for (let k = 0, j = i - r; k < taps.length; k++, j++) s += taps[k] * src[j];
-      xOut[i] = s;
+      for (let k = 0, j = i - r; k < tx.length; k++, j++) s += tx[k] * src[j];
+      if (dims === 1 && add) xOut[i] += s;
+      else xOut[i] = s;
     }
   }
   if (dims === 1) return;
@@ -48,8 +58,9 @@ export function blurInto(dst: FieldArray, src: FieldArray, tmp: FieldArray, g: G
     let i = (y + hy) * pw + hx - extent;
     for (let x = -extent; x < W + extent; x++, i++) {
       let s = 0;
-      for (let k = 0, j = i - r * pw; k < taps.length; k++, j += pw) s += taps[k] * tmp[j];
-      dst[i] = s;
+      for (let k = 0, j = i - r * pw; k < ty.length; k++, j += pw) s += ty[k] * tmp[j];
+      if (add) dst[i] += s;
+      else dst[i] = s;
     }
   }
 }

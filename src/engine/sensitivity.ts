@@ -5,7 +5,7 @@
 
 import type { CheckedScheme } from '../notation/scheme';
 import { fillGhosts, type GhostPlan } from './boundary';
-import { gaussianTaps } from './blur';
+import { blurInto, gaussianTaps, separableInto } from './blur';
 import { generateDualSource } from './dualCodegen';
 import { canonicalScheme, EngineError, type HaloPlan } from './plan';
 import type { DType, FieldArray, Geometry, KernelContext } from './types';
@@ -65,34 +65,6 @@ export function gaussianTapsDerivative(sigma: number): Float64Array {
   const s3 = sigma * sigma * sigma;
   for (let k = -r; k <= r; k++) out[k + r] = (w[k + r] * (k * k - m2)) / s3;
   return out;
-}
-
-/** dst = (ty ∘ tx) src over the image extended by `extent` (x pass first; 1d: only the x pass). Same tap length. */
-function filterXY(dst: FieldArray, src: FieldArray, tmp: FieldArray, g: Geometry, tx: Float64Array, ty: Float64Array, extent: number, dims: 1 | 2, add = false): void {
-  const r = (tx.length - 1) >> 1;
-  const { width: W, height: H, pw, haloX: hx, haloY: hy } = g;
-  const ey = dims === 2 ? extent : 0;
-  const ry = dims === 2 ? r : 0;
-  const xOut = dims === 2 ? tmp : dst;
-  for (let y = -ey - ry; y < H + ey + ry; y++) {
-    let i = (y + hy) * pw + hx - extent;
-    for (let x = -extent; x < W + extent; x++, i++) {
-      let s = 0;
-      for (let k = 0, j = i - r; k < tx.length; k++, j++) s += tx[k] * src[j];
-      if (dims === 1 && add) xOut[i] += s;
-      else xOut[i] = s;
-    }
-  }
-  if (dims === 1) return;
-  for (let y = -ey; y < H + ey; y++) {
-    let i = (y + hy) * pw + hx - extent;
-    for (let x = -extent; x < W + extent; x++, i++) {
-      let s = 0;
-      for (let k = 0, j = i - r * pw; k < ty.length; k++, j += pw) s += ty[k] * tmp[j];
-      if (add) dst[i] += s;
-      else dst[i] = s;
-    }
-  }
 }
 
 /** The tangent half of a run in sensitivity mode; the Run owns the values and calls in here. */
@@ -167,17 +139,17 @@ export class Tangents {
         const src = isLet ? ctx.lets[si] : ctx.cur[si];
         const tsrc = isLet ? T.lets[si] : T.cur[si];
         const tmp = scratch ?? this.scratch;
-        filterXY(ctx.lets[k], src, tmp, g, taps, taps, extent, scheme.dims);
+        blurInto(ctx.lets[k], src, tmp, g, taps, extent, scheme.dims);
         // d blur/dσ applied to the source: (D_y ∘ B_x + B_y ∘ D_x) src, D the tap derivative (separable product rule).
         const needS = sig.slice(1).some(s => s !== 0);
         const dTaps = gaussianTapsDerivative(sigma);
         if (needS) {
-          filterXY(this.scratch2, src, this.scratch, g, dTaps, taps, extent, scheme.dims);
-          if (scheme.dims === 2) filterXY(this.scratch2, src, this.scratch, g, taps, dTaps, extent, scheme.dims, true);
+          separableInto(this.scratch2, src, this.scratch, g, dTaps, taps, extent, scheme.dims);
+          if (scheme.dims === 2) separableInto(this.scratch2, src, this.scratch, g, taps, dTaps, extent, scheme.dims, true);
         }
         for (let j = 0; j < this.wrt.length; j++) {
           const out = T.lets[k][j];
-          filterXY(out, tsrc[j], this.scratch, g, taps, taps, extent, scheme.dims);
+          blurInto(out, tsrc[j], this.scratch, g, taps, extent, scheme.dims);
           const ds = sig[1 + j];
           if (ds !== 0 && needS) {
             const ey = scheme.dims === 2 ? extent : 0;
