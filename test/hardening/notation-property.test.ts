@@ -13,11 +13,10 @@ import { generateSource } from '../../src/engine/codegen';
 import { JsBackend } from '../../src/engine/jsBackend';
 import { EngineError } from '../../src/engine/plan';
 import { parseAndCheck } from '../../src/notation';
-import { walkExpr, type Decl, type Expr } from '../../src/notation/ast';
 import { CODES } from '../../src/notation/diagnostics';
 import { campaignSeed, rangeProblem, report, scaled } from './campaign';
 import { longScheme, smallScheme } from './schemeGen';
-import { ALL_NODE_KINDS } from '../unit/notation/nodeKinds';
+import { ALL_NODE_KINDS, nodeKinds } from '../unit/notation/nodeKinds';
 
 const HANG_MS = 5000;
 const LIMIT_MS = 100;
@@ -26,17 +25,6 @@ const known = new Set(Object.keys(CODES));
 interface Tally { kinds: Set<string>; codes: Set<string>; cases: number; failures: string[]; checked: number; compiled: number; refused: number; slowest: number; over: number; slowestText: string }
 
 const ALL_KINDS = ALL_NODE_KINDS;
-
-function nodeKinds(decls: readonly Decl[], into: Set<string>): void {
-  const expr = (e: Expr) => walkExpr(e, (x) => into.add(`expr:${x.kind}`));
-  for (const d of decls) {
-    into.add(`decl:${d.kind}`);
-    if (d.kind === 'field' && d.init?.kind === 'expr') expr(d.init.expr);
-    if (d.kind === 'function') expr(d.body);
-    if (d.kind === 'let' || d.kind === 'update') expr(d.expr);
-    if (d.kind === 'neighbours') for (const o of d.offsets) o.components.forEach(expr);
-  }
-}
 
 /** One case: everything a keystroke in the editor triggers, timed. Returns the failures found. */
 function exercise(text: string, t: Tally): void {

@@ -6,10 +6,9 @@ import { readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { parseAndCheck } from '../../../src/notation';
-import { walkExpr, type Decl, type Expr } from '../../../src/notation/ast';
 import { CODES } from '../../../src/notation/diagnostics';
 import { CASES } from './cases';
-import { ALL_NODE_KINDS } from './nodeKinds';
+import { ALL_NODE_KINDS, nodeKinds } from './nodeKinds';
 
 /** mulberry32: a small seeded generator, so every run mutates the same way. */
 function rng(seed: number): () => number {
@@ -50,17 +49,6 @@ function mutate(text: string, r: () => number): string {
     }
   }
   return s;
-}
-
-function nodeKinds(decls: readonly Decl[], into: Set<string>): void {
-  const expr = (e: Expr) => walkExpr(e, (x) => into.add(`expr:${x.kind}`));
-  for (const d of decls) {
-    into.add(`decl:${d.kind}`);
-    if (d.kind === 'field' && d.init?.kind === 'expr') expr(d.init.expr);
-    if (d.kind === 'function') expr(d.body);
-    if (d.kind === 'let' || d.kind === 'update') expr(d.expr);
-    if (d.kind === 'neighbours') for (const o of d.offsets) o.components.forEach(expr);
-  }
 }
 
 describe('fuzz: parse and check never throw', () => {
