@@ -2,7 +2,7 @@
 // impulse response, scene generation and image decoding, A/B metrics, frequency map, modified equation, influence map). Types only; the worker parses the scheme text itself, so requests carry plain data.
 // Must not import vscode or the DOM.
 
-import type { WireRange, WireVerdict } from '../../protocol/preview';
+import type { ToPreview, WireVerdict } from '../../protocol/preview';
 
 /** The message of an influence request ended by a newer one (the session drops it silently). */
 export const SUPERSEDED = 'superseded by a newer request';
@@ -88,37 +88,13 @@ export interface FrozenAt {
   readonly y: number;
 }
 
-export interface SpectrumResult {
-  readonly dims: 1 | 2;
-  readonly cols: number;
-  readonly rows: number;
-  readonly amp: Float32Array;
-  readonly lo: number;
-  readonly hi: number;
-  readonly edge: number[];
-  readonly peak: { readonly value: number; readonly theta: number[] };
-  readonly isotropy: { readonly radius: number; readonly angles: number[]; readonly error: number[] } | null;
-  readonly note: string;
-}
+/** The analysis thread's answers are the page's messages without their envelope (the session adds type, source, runId). */
+export type SpectrumResult = Omit<ToPreview.Spectrum, 'type' | 'source' | 'runId'>;
 
-export interface ApproximatesResult {
-  readonly text: string;
-  readonly details: string[];
-  readonly warnings: { readonly severity: 'warning' | 'info'; readonly message: string; readonly range: WireRange | null }[];
-}
+export type ApproximatesResult = Omit<ToPreview.Approximates, 'type' | 'source' | 'runId'>;
 
-export interface InfluenceResult {
-  readonly steps: number;
-  readonly field: string;
-  readonly x0: number;
-  readonly y0: number;
-  readonly width: number;
-  readonly height: number;
-  readonly data: Float32Array;
-  readonly sum: number;
-  readonly peak: number;
-  readonly note: string | null;
-}
+/** The session adds the picked pixel and step too. */
+export type InfluenceResult = Omit<ToPreview.Influence, 'type' | 'source' | 'runId' | 'step' | 'x' | 'y'>;
 
 export interface SideMetrics {
   readonly psnr: number | null;
