@@ -6,7 +6,7 @@
 import type { Expr } from '../notation/ast';
 import type { CheckedScheme, Offset } from '../notation/scheme';
 import type { DType } from './types';
-import { EngineError, offsetComponent } from './plan';
+import { accessOffset, EngineError } from './plan';
 
 const MAX_INLINE_DEPTH = 64;
 
@@ -218,13 +218,8 @@ class Lowering {
           // Float32 semantics: a primed read sees exactly the stored (rounded) value, so read it back.
           return this.dtype === 'float32' ? `d${f}[i]` : `n${f}`;
         }
-        let o: Offset | null = null;
-        if (e.offset?.kind === 'literal') o = e.offset.components.map(offsetComponent);
-        else if (e.offset?.kind === 'variable') {
-          const bound = env.offsets.get(e.offset.name);
-          if (!bound) throw new EngineError('an offset variable outside its reduction');
-          o = bound;
-        }
+        const o = accessOffset(e, env.offsets);
+        if (o === undefined) throw new EngineError('an offset variable outside its reduction');
         return this.read(e.target, o);
       }
       case 'unary': {

@@ -14,7 +14,7 @@
 import type { Expr } from '../notation/ast';
 import type { CheckedScheme, Offset } from '../notation/scheme';
 import { Emitter, jsNumber, Names } from './codegen';
-import { EngineError, offsetComponent } from './plan';
+import { accessOffset, EngineError } from './plan';
 import type { DType } from './types';
 
 const MAX_INLINE_DEPTH = 64;
@@ -146,13 +146,8 @@ class DualLowering {
           if (e.offset !== null) throw new EngineError('primed values are read at the same pixel only');
           return { v: this.dtype === 'float32' ? `d${f}[i]` : `n${f}`, d: this.wrt.map((_, j) => `tn${f}_${j}`) };
         }
-        let o: Offset | null = null;
-        if (e.offset?.kind === 'literal') o = e.offset.components.map(offsetComponent);
-        else if (e.offset?.kind === 'variable') {
-          const bound = env.offsets.get(e.offset.name);
-          if (!bound) throw new EngineError('an offset variable outside its reduction');
-          o = bound;
-        }
+        const o = accessOffset(e, env.offsets);
+        if (o === undefined) throw new EngineError('an offset variable outside its reduction');
         return this.read(e.target, o);
       }
       case 'unary': {

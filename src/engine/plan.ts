@@ -2,7 +2,7 @@
 // constant evaluation (blur sigma, offsets), the halo plan, and a canonical signature for the kernel cache.
 // Must not import vscode, the DOM or Node modules.
 
-import type { Expr } from '../notation/ast';
+import type { AccessExpr, Expr } from '../notation/ast';
 import { applyBuiltin } from '../notation/builtins';
 import type { CheckedScheme, Offset } from '../notation/scheme';
 
@@ -14,6 +14,16 @@ export class EngineError extends Error {
     super(message);
     this.name = 'EngineError';
   }
+}
+
+/**
+ * The offset an access `u[..]` reads: its literal offset, the offset a reduction variable is bound to in `offsets`,
+ * or null for the pixel itself; undefined for a variable no enclosing reduction binds (callers say so in their terms).
+ */
+export function accessOffset(e: AccessExpr, offsets: ReadonlyMap<string, Offset>): Offset | null | undefined {
+  if (e.offset?.kind === 'literal') return e.offset.components.map(offsetComponent);
+  if (e.offset?.kind === 'variable') return offsets.get(e.offset.name);
+  return null;
 }
 
 /** The value of an offset component: an integer literal, possibly negated. */

@@ -5,7 +5,7 @@
 
 import type { Expr, SourceRange } from '../notation/ast';
 import type { Boundary, CheckedScheme, Offset } from '../notation/scheme';
-import { EngineError, offsetComponent, readRadii } from '../engine/plan';
+import { accessOffset, EngineError, readRadii } from '../engine/plan';
 
 /** Raised for schemes (or constructs) a target cannot express; the message names the construct and its line. */
 export class ExportError extends Error {
@@ -184,14 +184,9 @@ class Lowerer {
           if (f === undefined || place !== 'update' || e.offset !== null) throw new ExportError(`line ${e.range.start.line}: a primed value can only be read at the same pixel in an update`);
           return g.add({ k: 'new', i: f });
         }
-        let o: Offset = [0, 0];
-        if (e.offset?.kind === 'literal') o = e.offset.components.map(offsetComponent);
-        else if (e.offset?.kind === 'variable') {
-          const bound = env.offsets.get(e.offset.name);
-          if (!bound) throw new ExportError(`line ${e.range.start.line}: an offset variable outside its reduction`);
-          o = bound;
-        }
-        return this.read(e.target, o, place, e.range);
+        const o = accessOffset(e, env.offsets);
+        if (o === undefined) throw new ExportError(`line ${e.range.start.line}: an offset variable outside its reduction`);
+        return this.read(e.target, o ?? [0, 0], place, e.range);
       }
       case 'unary': {
         const a = this.lower(e.operand, env, place);
