@@ -51,6 +51,13 @@ function pngStats(buf) {
   return { width: png.width, height: png.height, colours: colours.size };
 }
 
+/** A screenshot of the live run panel (the last ready webview) saved at `path`, with its size and colour count. */
+async function panelShot(page, path) {
+  const box = await page.locator('iframe.webview.ready').last().boundingBox();
+  const buf = await page.screenshot({ path, ...(box ? { clip: box } : {}) });
+  return { path, ...pngStats(buf) };
+}
+
 export async function liveRunProbe(page, extra, outDir) {
   const req = JSON.parse(extra || '{}');
   const f = await liveRunFrame(page);
@@ -229,13 +236,7 @@ export async function liveRunProbe(page, extra, outDir) {
           approximates: document.body.dataset.approximates,
         };
       });
-      let shot = null;
-      if (req.name) {
-        const path = join(outDir, `${req.name}.png`);
-        const box = await page.locator('iframe.webview.ready').last().boundingBox();
-        const buf = await page.screenshot({ path, ...(box ? { clip: box } : {}) });
-        shot = { path, ...pngStats(buf) };
-      }
+      const shot = req.name ? await panelShot(page, join(outDir, `${req.name}.png`)) : null;
       return { ...px, shot };
     }
     case 'influence': {
@@ -286,13 +287,7 @@ export async function liveRunProbe(page, extra, outDir) {
         }, [ox, oy, req.zoom]);
       }
       if (req.zoom) await page.waitForTimeout(300);
-      let shot = null;
-      if (req.name) {
-        const path = join(outDir, `${req.name}.png`);
-        const frameBox = await page.locator('iframe.webview.ready').last().boundingBox();
-        const buf = await page.screenshot({ path, ...(frameBox ? { clip: frameBox } : {}) });
-        shot = { path, ...pngStats(buf) };
-      }
+      const shot = req.name ? await panelShot(page, join(outDir, `${req.name}.png`)) : null;
       return { ...d, meanDiff: diff / Math.max(1, over.length / 4), coloured, pixels: over.length / 4, legend, readout, shot };
     }
     case 'pin': {
@@ -322,13 +317,7 @@ export async function liveRunProbe(page, extra, outDir) {
         const rows = Array.from(document.querySelectorAll('.ab-table tr')).map((tr) => Array.from(tr.children).map((c) => c.textContent));
         return { visible: !document.querySelector('section.ab').hidden, counts, rows, between: document.querySelector('.ab-between').textContent, label: document.querySelector('.ab-label').textContent };
       });
-      let shot = null;
-      if (req.name) {
-        const path = join(outDir, `${req.name}.png`);
-        const frameBox = await page.locator('iframe.webview.ready').last().boundingBox();
-        const buf = await page.screenshot({ path, ...(frameBox ? { clip: frameBox } : {}) });
-        shot = { path, ...pngStats(buf) };
-      }
+      const shot = req.name ? await panelShot(page, join(outDir, `${req.name}.png`)) : null;
       return { ...d, ...ab, shot };
     }
     default:
