@@ -353,8 +353,8 @@ export class Run {
     return this.decision;
   }
 
+  /** Decided by then: every step asks for extremumDecision before its timed part. */
   private get extremum(): { lo: number; hi: number } | null {
-    if (this.extremumBounds === undefined) void this.extremumDecision;
     return this.extremumBounds ?? null;
   }
 
@@ -365,6 +365,8 @@ export class Run {
   /** One step: lets, fused updates, buffer swap, halo refill, monitors. Returns false once the run has stopped. */
   step(): boolean {
     if (this.status !== 'running') return false;
+    // The monitors' static analysis runs before the first step, outside stepSeconds (it is not a monitor's cost).
+    void this.extremumDecision;
     const t0 = nowSeconds();
     const { ctx, geometry: g, scheme } = this;
     ctx.t = this.stepIndex * this.dt;
@@ -422,6 +424,7 @@ export class Run {
     if (this.status !== 'running' || this.stepIndex + 2 > this.steps || this.frameAt(this.stepIndex + 1)) return 'no';
     // A frame's change measure compares with the step before, which a pass does not keep.
     if (this.measures && this.frameAt(this.stepIndex + 2)) return 'no';
+    void this.extremumDecision;
     const t0 = nowSeconds();
     const { ctx, geometry: g } = this;
     ctx.t = this.stepIndex * this.dt;
