@@ -18,7 +18,7 @@ import { sensitivityKey, Tangents } from './sensitivity';
 import { extremumPrinciple, type ExtremumDecision } from './monitorPolicy';
 import { blurRadius, EngineError, planHalo, type HaloPlan } from './plan';
 import type {
-  CompiledScheme, DType, FieldArray, FieldStats, FrameStats, Geometry, KernelBackend, KernelContext, RunWarning, StepMonitor, StopReason, WarningKind,
+  CompiledScheme, DType, FieldArray, FieldStats, FrameStats, Geometry, KernelBackend, KernelContext, RunWarning, StepLimits, StopReason, WarningKind,
 } from './types';
 
 /** A grey image, row-major: pixel (x, y) is data[y * width + x]. */
@@ -101,8 +101,9 @@ export interface RunCallbacks {
   shouldCancel?(): boolean;
   /**
    * Set when onProgress reads the run's fields (e.g. to measure every step): the runner then takes single steps.
-   * Otherwise a backend may take two steps in one pass, and onProgress(s + 1) comes before the fields reach s + 1
-   * (shouldCancel is still asked between the two, and a cancel then ends the run at s + 1).
+   * Otherwise a backend may take several steps in one call (passes of two steps, a few milliseconds at most): the
+   * fields are at the last of them when the call returns, onProgress is called for each of its steps in order, and
+   * shouldCancel is asked after the call, so a cancel ends the run at the call's last step.
    */
   readonly everyStep?: boolean;
 }
@@ -133,6 +134,10 @@ export const MAX_PAD_CELLS = 1 << 22;
 const FLOAT32_EPS = 2 ** -23;
 const FLOAT64_EPS = 2 ** -52;
 const FLOAT32_MAX = 3.4028234663852886e38;
+/** A backend call of several steps (stepPasses) is kept near this long, so progress and cancels stay prompt. */
+const PASS_CALL_SECONDS = 0.004;
+/** And at most this many passes per call (backends take this many: the WebAssembly one has room for 64). */
+const MAX_PASSES_PER_CALL = 64;
 
 function ulpOf(x: number, dtype: DType): number {
   const a = Math.abs(x);
@@ -173,10 +178,14 @@ export class Run {
   private readonly ctx: KernelContext;
   private readonly ghosts: GhostPlan[];
   private readonly updated: number[];
-  /** Step s + 1's monitors when the backend takes two steps in one pass (see stepTwice). */
-  private readonly mid: StepMonitor;
-  /** Cleared when the backend declines two-step passes for this run. */
+  /** Cleared when the backend declines two-step passes for this run (see stepPasses). */
   private pairing = true;
+  /** Seconds per two-step pass, measured on the last call (0: none yet), to keep a call near PASS_CALL_SECONDS. */
+  private passSeconds = 0;
+  /** The step at which a pass was found not quiet: from there the runner takes single steps until the next call. */
+  private noPassAt = -1;
+  /** The range a quiet step stays in, per field (see quiet). */
+  private readonly limits: StepLimits;
   private readonly blurTaps: (Float64Array | null)[];
   private readonly scratch: FieldArray | null;
   private readonly every: number;
@@ -274,7 +283,7 @@ export class Run {
     this.blurTaps = this.halo.letSigmas.map(s => (s === null ? null : gaussianTaps(s)));
     this.scratch = this.blurTaps.some(t => t !== null) ? alloc() : null;
     const n = scheme.fields.length;
-    this.mid = { min: new Float64Array(n), max: new Float64Array(n), bad: new Float64Array(n) };
+    this.limits = { lo: new Float64Array(n), hi: new Float64Array(n) };
     this.ctx = {
       cur, next, lets,
       params: Float64Array.from(scheme.params.map(p => values.get(p.name) as number)),
@@ -411,47 +420,69 @@ export class Run {
   }
 
   /**
-   * Two steps in one pass of the backend (temporal blocking: step s + 1 lives only in per-thread band buffers), when
-   * nothing needs step s + 1's field: no lets, no change rule, no frame at s + 1 (nor at s + 2 when it measures the
-   * change per step), no sensitivities, no caller reading the fields after every step. Both steps' monitors must be
-   * quiet (nothing to warn about); otherwise the pass is dropped (ctx.cur still holds step s) and the runner takes
-   * single steps, which find and report the pixel. Between the two steps it reports progress and asks shouldCancel,
-   * as single steps would. Returns 'done' (two steps taken), 'cancelled' (one step taken, then cancelled) or 'no'.
+   * Several steps in one call of the backend: passes of two steps (temporal blocking, step s + 1 lives only in
+   * per-thread band buffers), when nothing needs a field between them: no lets, no change rule, no frame inside the
+   * call (nor at its end when frames measure the change per step, which needs the step before), no sensitivities,
+   * no caller reading the fields after every step. A pass counts only when both its steps are quiet (the monitors
+   * have nothing to report, see quiet); the first pass that is not ends the call with the fields as before it, and the
+   * runner takes single steps from there, which find and report the pixel. A call is kept near PASS_CALL_SECONDS so
+   * progress and cancellation (asked between calls) stay prompt. Returns false when no pass was taken.
    */
-  private stepTwice(cb: RunCallbacks): 'no' | 'done' | 'cancelled' {
+  private stepPasses(cb: RunCallbacks): boolean {
     const c = this.compiled;
-    if (cb.everyStep || !this.pairing || !c.updateTwice || this.tangents || this.scheme.lets.length > 0 || this.stopChange !== null) return 'no';
-    if (this.status !== 'running' || this.stepIndex + 2 > this.steps || this.frameAt(this.stepIndex + 1)) return 'no';
+    if (cb.everyStep || !this.pairing || !c.updatePasses || this.tangents || this.scheme.lets.length > 0 || this.stopChange !== null) return false;
+    if (this.status !== 'running' || this.noPassAt === this.stepIndex) return false;
+    // Passes j = 1..P cover steps s + 2j - 1 and s + 2j: no frame at an odd one, nor at an even one before the last.
+    const s0 = this.stepIndex;
+    // Before the first call, a pass is guessed at 1 ns per pixel and step (simple kernels take less on one core).
+    const perPass = this.passSeconds > 0 ? this.passSeconds : 2e-9 * this.geometry.width * this.geometry.height;
+    const budget = Math.min(MAX_PASSES_PER_CALL, Math.floor(PASS_CALL_SECONDS / perPass));
+    let P = 0;
+    while (P < Math.max(1, budget) && s0 + 2 * (P + 1) <= this.steps && !this.frameAt(s0 + 2 * P + 1)) {
+      P++;
+      if (this.frameAt(s0 + 2 * P)) break;
+    }
     // A frame's change measure compares with the step before, which a pass does not keep.
-    if (this.measures && this.frameAt(this.stepIndex + 2)) return 'no';
+    if (P > 0 && this.measures && this.frameAt(s0 + 2 * P)) P--;
+    if (P === 0) return false;
     void this.extremumDecision;
+    this.quietLimits();
     const t0 = nowSeconds();
     const { ctx, geometry: g } = this;
-    ctx.t = this.stepIndex * this.dt;
-    if (!c.updateTwice(g, ctx, this.mid, this.ghosts)) {
+    ctx.t = s0 * this.dt;
+    const done = c.updatePasses(g, ctx, P, this.limits, this.ghosts);
+    if (done < 0) {
       this.pairing = false;
-      return 'no';
+      return false;
     }
-    this.stepSeconds += nowSeconds() - t0;
-    if (!this.quiet(this.mid) || !this.quiet(ctx.monitor)) return 'no';
-    cb.onProgress?.(this.stepIndex + 1, this.steps);
-    if (cb.shouldCancel?.()) {
-      // The run stops after step s + 1: take it on its own (ctx.cur still holds step s).
-      this.step();
-      if (this.status === 'running') this.status = 'cancelled';
-      return 'cancelled';
+    if (done % 2 === 1) {
+      for (const k of this.updated) {
+        const tmp = ctx.cur[k];
+        ctx.cur[k] = ctx.next[k];
+        ctx.next[k] = tmp;
+      }
     }
-    const t1 = nowSeconds();
+    const dt = nowSeconds() - t0;
+    this.stepSeconds += dt;
+    if (done === P) this.passSeconds = dt / P;
+    else this.noPassAt = s0 + 2 * done;
+    if (done === 0) return false;
+    this.stepIndex += 2 * done;
+    for (let k = s0 + 1; k < this.stepIndex; k++) cb.onProgress?.(k, this.steps);
+    return true;
+  }
+
+  /** The limits of quiet: what checkMonitors tests, per updated field, as one range of values. */
+  private quietLimits(): void {
+    const big = this.dtype === 'float32' ? FLOAT32_MAX : Number.MAX_VALUE;
     for (const k of this.updated) {
-      const tmp = ctx.cur[k];
-      ctx.cur[k] = ctx.next[k];
-      ctx.next[k] = tmp;
-      fillGhosts(ctx.cur[k], g, this.ghosts[k]);
+      let lo = -big, hi = big;
+      if (!this.warned.has(`growth:${k}`)) (lo = Math.max(lo, -this.growthBound)), (hi = Math.min(hi, this.growthBound));
+      const ex = this.extremum;
+      if (ex && !this.warned.has(`extremum:${k}`)) (lo = Math.max(lo, ex.lo)), (hi = Math.min(hi, ex.hi));
+      this.limits.lo[k] = lo;
+      this.limits.hi[k] = hi;
     }
-    this.stepIndex += 2;
-    this.checkMonitors();
-    this.stepSeconds += nowSeconds() - t1;
-    return 'done';
   }
 
   /** Whether a frame is recorded after step k of a run that goes on (the last step always records one). */
@@ -459,32 +490,15 @@ export class Run {
     return k === this.steps || (this.every > 0 && k % this.every === 0);
   }
 
-  /** Whether checkMonitors would find nothing to report in M (the same tests, without side effects). */
-  private quiet(M: StepMonitor): boolean {
-    for (const k of this.updated) {
-      const lo = M.min[k], hi = M.max[k];
-      if (Number.isNaN(M.bad[k]) || !Number.isFinite(lo) || !Number.isFinite(hi)) return false;
-      const big = Math.max(Math.abs(lo), Math.abs(hi));
-      if (this.dtype === 'float32' && big > FLOAT32_MAX) return false;
-      if (big > this.growthBound && !this.warned.has(`growth:${k}`)) return false;
-      const ex = this.extremum;
-      if (ex && (hi > ex.hi || lo < ex.lo) && !this.warned.has(`extremum:${k}`)) return false;
-    }
-    return true;
-  }
-
-  /** One step (two where the backend can, see stepTwice) with its callbacks; false when cancelled before stepping. */
+  /** One step (several where the backend can, see stepPasses) with its callbacks; false when cancelled before stepping. */
   private advance(cb: RunCallbacks): boolean {
     if (cb.shouldCancel?.()) {
       this.status = 'cancelled';
       return false;
     }
     const before = this.warnings.length;
-    const pass = this.stepTwice(cb);
-    if (pass === 'no') this.step();
+    if (!this.stepPasses(cb)) this.step();
     for (let k = before; k < this.warnings.length; k++) cb.onWarning?.(this.warnings[k]);
-    // Cancelled between the two steps of a pass: step s + 1 was reported and taken, and records no frame.
-    if (pass === 'cancelled') return true;
     cb.onProgress?.(this.stepIndex, this.steps);
     const last = this.stepIndex === this.steps || this.status !== 'running';
     if (last || (this.every > 0 && this.stepIndex % this.every === 0)) this.recordFrame(cb);

@@ -30,13 +30,17 @@ export interface CompiledScheme {
    */
   allocateBuffers?(g: Geometry, count: number): FieldArray[] | null;
   /**
-   * Optional: two steps in one pass over the buffers (temporal blocking): reads ctx.cur (step s), writes the
-   * interiors of ctx.next with step s + 2, fills `mid` with the monitors of step s + 1 and ctx.monitor with those of
-   * step s + 2. ctx.cur is left as it was. Returns false, having written nothing the runner reads, where the scheme or
-   * the buffers do not allow it; the runner then takes single steps. Only called for schemes without lets whose
-   * updates do not read t. The result is bitwise that of two calls of update with a halo refill between them.
+   * Optional: up to `passes` two-step passes over the buffers in one call (temporal blocking: step s + 1 lives only
+   * in per-thread band buffers). Pass p reads the updated fields' buffers ctx.cur (p even) or ctx.next (p odd) and
+   * writes the other, halo included; the runner swaps ctx.cur and ctx.next once per pass done. A pass counts only
+   * when both its steps are quiet: every updated field k's values within [limits.lo[k], limits.hi[k]] (no NaN);
+   * the first pass that is not ends the call, and its input (the fields after the passes before) is intact.
+   * Returns the number of passes done, or -1, having written nothing the runner reads, where the scheme or the
+   * buffers do not allow passes (the runner then takes single steps for the rest of the run). Only called for
+   * schemes without lets whose updates do not read t. Results are bitwise those of single steps (update, then a halo
+   * refill). Monitors of the steps of a pass are not reported (quiet steps have nothing to report).
    */
-  updateTwice?(g: Geometry, ctx: KernelContext, mid: StepMonitor, ghosts: readonly GhostPlanLike[]): boolean;
+  updatePasses?(g: Geometry, ctx: KernelContext, passes: number, limits: StepLimits, ghosts: readonly GhostPlanLike[]): number;
 }
 
 /** The halo plans of boundary.ts, as the backends see them (one per field). */
@@ -66,6 +70,12 @@ export interface Geometry {
 }
 
 /** Per-field min, max and a non-finite flag, written by the update kernel each step. */
+/** Per field: the range a step's new values must stay in for the monitors to have nothing to report. */
+export interface StepLimits {
+  readonly lo: Float64Array;
+  readonly hi: Float64Array;
+}
+
 export interface StepMonitor {
   /** Indexed by field: min and max of the new values (NaN never compares, so it is tracked separately). */
   readonly min: Float64Array;

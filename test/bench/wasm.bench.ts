@@ -2,6 +2,7 @@
 // In one process run, interleaved: the C baseline (wasm_ref.c, gcc -O3 -march=native, one thread, compiled here),
 // the engine on the WebAssembly backend (two threads, and one), the JavaScript backend, and a NumPy script.
 // Prints medians and the ratios against the issue's targets; asserts nothing. Run: node test/bench/run.mjs wasm
+// (CASE=heat|edge for one case, ROUNDS=N rounds)
 import { spawnSync } from 'node:child_process';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -119,7 +120,8 @@ const cases = [
 console.log(`${ROUNDS} interleaved rounds per case (C, wasm 2 threads, wasm 1 thread, C 128-bit${hasNumpy ? ', NumPy on the edge case (3 rounds)' : ''}); JS backend 3 rounds.`);
 console.log('Engine times are stepSeconds (ghost cells, kernels, monitors); C times cover ghost cells and kernels.');
 console.log('The machine is shared: figures are noisy, compare the ratios within one run.');
-for (const c of cases) {
+// CASE=heat or CASE=edge runs one case only.
+for (const c of cases.filter(x => !process.env.CASE || x.kind === process.env.CASE)) {
   // Warm-up: compiles the kernels, starts the helper thread, touches the pages.
   engine(c.text, c.n, 2, wasm2);
   engine(c.text, c.n, 2, wasm1);

@@ -6,15 +6,15 @@
 import type { CheckedScheme } from '../../notation/scheme';
 import { jsBackend, type JsBackend } from '../jsBackend';
 import { canonicalScheme, hashText } from '../plan';
-import type { CompiledScheme, DType, FieldArray, Geometry, GhostPlanLike, KernelBackend, KernelContext, StepMonitor } from '../types';
+import type { CompiledScheme, DType, FieldArray, Geometry, GhostPlanLike, KernelBackend, KernelContext, StepLimits, StepMonitor } from '../types';
 import { encodeModule, type FnBody } from './emit';
 import { letGraph, Unsupported, updateGraph, type KernelGraph } from './ir';
 import {
-  BUFFERS_AT, checkVectorisable, emitKernel, emitTwoStep, IMPORTS, MAX_FIELDS, MAX_PARAMS, MONITOR_AT, MONITOR_BYTES, PARAMS_AT, planTableBytes,
-  rowFluxBytes, twoStepSlotBytes, type BufId,
+  BLOCK_ABORT_AT, BLOCK_ABORTED, BLOCK_CTL_BYTES, BLOCK_MAX_PASSES, blockLimitBytes, BUFFERS_AT, checkVectorisable, emitBlock, emitKernel, emitTwoStep, IMPORTS, MAX_FIELDS, MAX_PARAMS,
+  MONITOR_AT, MONITOR_BYTES, PARAMS_AT, planTableBytes, rowFluxBytes, twoStepSlotBytes, type BufId,
 } from './kernel';
 import { wasmApi, type WasmMemory, type WasmModule } from './wasmApi';
-import { coreCount, getHelper, runShared } from './threads';
+import { coreCount, getHelper, preload, runShared, runWhole } from './threads';
 
 /** Below this many pixels a second thread saves little (a step is a fraction of a millisecond, the barrier is not). */
 const THREAD_MIN_PIXELS = 512 * 512;
@@ -51,6 +51,9 @@ class Arena {
   /** Where the halo plan tables of the two-step pass go (one per updated field, written on first use). */
   private planNext: number;
   private readonly planEnd: number;
+  /** The block driver's control words and its per-field limits (kernel.ts, emitBlock). */
+  readonly ctl: number;
+  readonly lim: number;
   readonly planTables = new Map<object, number>();
   readonly instances = new Map<string, { module: WasmModule; names: string[]; fns: ((...a: number[]) => void)[] }>();
   readonly prepared = new Map<object, { g: Geometry; inst: Prepared }>();
@@ -63,7 +66,9 @@ class Arena {
     this.scratch = [0, 1].map(k => this.next + count * size + k * perThread);
     this.planNext = this.next + count * size + 2 * perThread;
     this.planEnd = this.planNext + stores * planTableBytes(g.ph, g.pw * g.ph - g.width * g.height);
-    const pages = Math.ceil((this.planEnd + 64) / 65536);
+    this.ctl = align16(this.planEnd);
+    this.lim = this.ctl + BLOCK_CTL_BYTES;
+    const pages = Math.ceil((this.lim + blockLimitBytes(stores) + 64) / 65536);
     this.memory = new (api().Memory)({ initial: pages, maximum: pages, shared: true });
     this.f64 = new Float64Array(this.memory.buffer, 0, BUFFERS_AT / 8);
     // The system maps pages on first write: do it now, with the buffers, rather than in the first steps (a fault
@@ -153,6 +158,10 @@ class WasmCompiled implements CompiledScheme {
     }
     const out: FieldArray[] = [];
     for (let k = 0; k < count; k++) out.push(arena.alloc());
+    // Instantiate the kernels now, not in the first (timed) step, and let the helper thread do the same meanwhile.
+    const inst = this.instance(arena, g);
+    const h = threads > 1 ? getHelper() : null;
+    if (h) preload(h, inst.key, inst.module, arena.memory, inst.names);
     return out;
   }
 
@@ -200,6 +209,8 @@ class WasmCompiled implements CompiledScheme {
       if (this.twoStepAllowed()) {
         const rows = twoStepRows(g, this.dtype, this.plan.update.stores.length);
         funcs.push({ name: 't2', body: emitTwoStep(this.plan.update, u.bufs, this.dtype, { ...geo, ph: g.ph, rows }, 0) });
+        bufs.push([...u.bufs]);
+        funcs.push({ name: 'tb', body: emitBlock(this.plan.update, u.bufs, this.dtype, { ...geo, ph: g.ph, rows }, funcs.length - 1) });
         bufs.push([...u.bufs]);
       }
       const bytes = encodeModule({ imports: IMPORTS.map(name => ({ name, params: name === 'pow' ? [0x7c, 0x7c] : [0x7c], results: [0x7c] })), memory: { min: 1, max: 65536 }, funcs });
@@ -299,35 +310,55 @@ class WasmCompiled implements CompiledScheme {
     return this.twoStep;
   }
 
-  updateTwice(g: Geometry, ctx: KernelContext, mid: StepMonitor, ghosts: readonly GhostPlanLike[]): boolean {
-    if (!this.twoStepAllowed()) return false;
+  updatePasses(g: Geometry, ctx: KernelContext, passes: number, limits: StepLimits, ghosts: readonly GhostPlanLike[]): number {
+    if (!this.twoStepAllowed()) return -1;
     const arena = this.arenaOf(ctx);
-    if (!arena || g.width < this.lanes()) return false;
+    if (!arena || g.width < this.lanes()) return -1;
+    const stores = this.plan.update.stores;
     const tables: number[] = [];
-    for (const s of this.plan.update.stores) {
+    for (const s of stores) {
       const plan = ghosts[s.field];
-      if (!plan || plan.kind !== 'gather' || !rowLocal(plan, g)) return false;
+      if (!plan || plan.kind !== 'gather' || !rowLocal(plan, g)) return -1;
       const at = arena.planTable(plan);
-      if (at === null) return false;
+      if (at === null) return -1;
       tables.push(at);
     }
-    this.writeRunValues(arena, ctx);
     const inst = this.instance(arena, g);
-    const fn = inst.names.indexOf('t2');
-    if (fn < 0) return false;
-    const f = arena.f64;
-    for (const s of this.plan.update.stores) {
-      for (let slot = 0; slot < 4; slot++) {
-        f[(MONITOR_AT + slot * MONITOR_BYTES + 16 * s.field) / 8] = Infinity;
-        f[(MONITOR_AT + slot * MONITOR_BYTES + 16 * s.field + 8) / 8] = -Infinity;
-      }
+    const fn = inst.names.indexOf('tb');
+    if (fn < 0) return -1;
+    const n = Math.max(1, Math.min(BLOCK_MAX_PASSES, Math.floor(passes)));
+    this.writeRunValues(arena, ctx);
+    const lim = new Float64Array(arena.memory.buffer, arena.lim, 2 * stores.length);
+    stores.forEach((s, j) => {
+      lim[2 * j] = limits.lo[s.field];
+      lim[2 * j + 1] = limits.hi[s.field];
+    });
+    // Per pass: the chunk counter (all chunks left: front 0, back `chunks`), none done, quiet; then the sleep counts.
+    const rows = twoStepRows(g, this.dtype, stores.length), chunks = Math.ceil(g.height / rows);
+    const words = new Int32Array(arena.memory.buffer, arena.ctl, BLOCK_CTL_BYTES / 4);
+    for (let p = 0; p < n; p++) {
+      words[4 * p] = chunks << 16;
+      words[4 * p + 1] = 0;
+      words[4 * p + 2] = 1;
     }
-    const rows = twoStepRows(g, this.dtype, this.plan.update.stores.length);
-    this.runBands(arena, g, fn, [...this.bufArgs(inst.bufs[fn], ctx), ...tables], 0, g.width, 0, g.height, rows);
-    this.threadsUsed = arena.threads > 1 && g.height >= 8 ? 2 : 1;
-    this.readMonitors(f, MONITOR_AT + 2 * MONITOR_BYTES, mid);
-    this.readMonitors(f, MONITOR_AT, ctx.monitor);
-    return true;
+    words.fill(0, 4 * BLOCK_MAX_PASSES);
+    const even = this.bufArgs(inst.bufs[fn], ctx);
+    const updated = new Set(stores.map(s => s.field));
+    const odd = inst.bufs[fn].map((b, k) => (!updated.has(b.index) || b.kind === 'l' ? even[k] : (b.kind === 'c' ? ctx.next : ctx.cur)[b.index].byteOffset));
+    const args = [...even, ...odd, ...tables, 0, g.width, n, arena.ctl, arena.lim];
+    const call = inst.fns[fn] as unknown as (...a: number[]) => number;
+    const mine = { mon: MONITOR_AT, scratch: arena.scratch[0] };
+    const h = arena.threads > 1 && g.height >= 8 ? getHelper() : null;
+    if (!h) {
+      this.threadsUsed = 1;
+      return call(...args, 0, 0x7fffffff, mine.mon, mine.scratch);
+    }
+    // The helper kept this thread waiting when this thread had to sleep for it in more than a quarter of the passes.
+    const r = runWhole(h, inst.key, inst.module, arena.memory, inst.names, fn, call, args, chunks >> 1, mine,
+      { mon: MONITOR_AT + MONITOR_BYTES, scratch: arena.scratch[1] }, arena.ctl + BLOCK_ABORT_AT, () => 4 * words[4 * BLOCK_MAX_PASSES] > n);
+    if (r.result === BLOCK_ABORTED) throw new Error('the helper thread failed to run a kernel');
+    this.threadsUsed = 2;
+    return r.result;
   }
 }
 

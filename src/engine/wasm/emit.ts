@@ -7,13 +7,13 @@ export type ValType = typeof I32 | typeof F32 | typeof F64 | typeof V128;
 
 /** Plain opcodes (one byte). */
 export const Op = {
-  block: 0x02, loop: 0x03, if: 0x04, else: 0x05, end: 0x0b, br: 0x0c, brIf: 0x0d, call: 0x10, select: 0x1b,
+  block: 0x02, loop: 0x03, if: 0x04, else: 0x05, end: 0x0b, br: 0x0c, brIf: 0x0d, return: 0x0f, call: 0x10, drop: 0x1a, select: 0x1b,
   localGet: 0x20, localSet: 0x21, localTee: 0x22,
-  i32Load: 0x28, f32Load: 0x2a, f64Load: 0x2b, f32Store: 0x38, f64Store: 0x39,
-  i32Const: 0x41, f32Const: 0x43, f64Const: 0x44,
-  i32Eqz: 0x45, i32LtS: 0x48, i32GtS: 0x4a, i32LeS: 0x4c, i32GeS: 0x4e,
+  i32Load: 0x28, f32Load: 0x2a, f64Load: 0x2b, i32Store: 0x36, f32Store: 0x38, f64Store: 0x39,
+  i32Const: 0x41, i64Const: 0x42, f32Const: 0x43, f64Const: 0x44,
+  i32Eqz: 0x45, i32Eq: 0x46, i32Ne: 0x47, i32LtS: 0x48, i32GtS: 0x4a, i32LeS: 0x4c, i32GeS: 0x4e,
   f64Eq: 0x61, f64Ne: 0x62, f64Lt: 0x63, f64Gt: 0x64, f64Le: 0x65, f64Ge: 0x66,
-  i32Add: 0x6a, i32Sub: 0x6b, i32Mul: 0x6c, i32And: 0x71, i32Or: 0x72, i32Shl: 0x74,
+  i32Add: 0x6a, i32Sub: 0x6b, i32Mul: 0x6c, i32And: 0x71, i32Or: 0x72, i32Shl: 0x74, i32ShrU: 0x76,
   f32Min: 0x96, f32Max: 0x97,
   f64Abs: 0x99, f64Neg: 0x9a, f64Sqrt: 0x9f, f64Add: 0xa0, f64Sub: 0xa1, f64Mul: 0xa2, f64Div: 0xa3, f64Min: 0xa4, f64Max: 0xa5,
   f32ConvertI32S: 0xb2, f32DemoteF64: 0xb6, f64ConvertI32S: 0xb7, f64PromoteF32: 0xbb,
@@ -34,6 +34,11 @@ export const Simd = {
   f64x2Abs: 0xec, f64x2Neg: 0xed, f64x2Sqrt: 0xef, f64x2Add: 0xf0, f64x2Sub: 0xf1, f64x2Mul: 0xf2, f64x2Div: 0xf3,
   f64x2Min: 0xf4, f64x2Max: 0xf5, f64x2Pmin: 0xf6, f64x2Pmax: 0xf7,
   i32x4TruncSatF32x4S: 0xf8, f32x4ConvertI32x4S: 0xfa, f64x2ConvertLowI32x4S: 0xfe,
+} as const;
+
+/** Opcodes after the 0xfe threads prefix (all take a memarg; i32 accesses must be naturally aligned). */
+export const Atomic = {
+  notify: 0x00, wait32: 0x01, i32Load: 0x10, i32Store: 0x17, i32Add: 0x1e, i32Cmpxchg: 0x48,
 } as const;
 
 export class Bytes {
@@ -102,6 +107,11 @@ export class FnBody {
   }
   simd(code: number): this {
     this.code.u8(0xfd).u32(code);
+    return this;
+  }
+  /** An atomic i32 access (or wait/notify) at a static byte offset. */
+  atomic(code: number, offset = 0): this {
+    this.code.u8(0xfe).u32(code).u32(2).u32(offset);
     return this;
   }
   get(i: number): this {

@@ -4,7 +4,7 @@
 // Must not import vscode, the DOM or Node modules.
 
 import type { DType } from '../types';
-import { F64, FnBody, I32, Op, Simd, V128, type ValType } from './emit';
+import { Atomic, F64, FnBody, I32, Op, Simd, V128, type ValType } from './emit';
 import { type KernelGraph, type Node, Unsupported } from './ir';
 
 /** Byte address of the run values every kernel reads: f64 dt, t, then the params. */
@@ -561,23 +561,164 @@ export function emitTwoStep(kg: KernelGraph, bufs: readonly BufId[], dtype: DTyp
   };
   callKernel(true);
   // Halo of T: the plan entries of padded rows [r0 + hy, r1 + hy), widened to the ghost rows at the image's edges.
-  kg.stores.forEach((_, j) => {
-    const tab = P + j;
-    // first padded row: 0 when r0 = 0, else r0 + hy; last (exclusive): ph when r1 = H, else r1 + hy.
-    fb.get(tab).i32c(0).get(r0).i32c(hy).op(Op.i32Add).get(r0).op(Op.i32Eqz, Op.select).i32c(2).op(Op.i32Shl, Op.i32Add).mem(Op.i32Load, 2, 0).set(e);
-    fb.get(tab).i32c(geo.ph).get(r1).i32c(hy).op(Op.i32Add).get(r1).i32c(H).op(Op.i32LtS, Op.i32Eqz, Op.select).i32c(2).op(Op.i32Shl, Op.i32Add).mem(Op.i32Load, 2, 0).set(end);
-    fb.get(tab).i32c(4 * (geo.ph + 1)).op(Op.i32Add).set(pairs);
-    fb.op(Op.block, VOID, Op.loop, VOID);
-    fb.get(e).get(end).op(Op.i32GeS, Op.brIf).code.u32(1);
-    fb.get(pairs).get(e).i32c(3).op(Op.i32Shl, Op.i32Add).set(at);
-    // T[dst] = T[src]
-    fb.get(tb[j]).get(at).mem(Op.i32Load, 2, 0).i32c(Math.log2(bytes)).op(Op.i32Shl, Op.i32Add);
-    fb.get(tb[j]).get(at).mem(Op.i32Load, 2, 4).i32c(Math.log2(bytes)).op(Op.i32Shl, Op.i32Add);
-    fb.mem(bytes === 4 ? Op.f32Load : Op.f64Load, align, 0).mem(bytes === 4 ? Op.f32Store : Op.f64Store, align, 0);
-    fb.get(e).i32c(1).op(Op.i32Add).set(e);
-    fb.op(Op.br).code.u32(0);
-    fb.op(Op.end, Op.end);
-  });
+  const tmp = { e, end, pairs, at };
+  kg.stores.forEach((_, j) => emitHaloRefill(fb, () => fb.get(tb[j]), P + j, r0, r1, geo, dtype, tmp));
   callKernel(false);
+  return fb;
+}
+
+/**
+ * Refills the halo cells of padded rows [r0 + hy, r1 + hy) of one buffer (base pushed by `base`) from a field's plan
+ * table (local `tab`), widened to the ghost rows above when r0 = 0 and below when r1 = H. Each entry copies an
+ * interior cell of the same row, or of the first or last hy rows for ghost rows (the plans the passes accept).
+ */
+function emitHaloRefill(
+  fb: FnBody, base: () => void, tab: number, r0: number, r1: number, geo: TwoStepGeometry, dtype: DType,
+  tmp: { e: number; end: number; pairs: number; at: number },
+): void {
+  const bytes = dtype === 'float32' ? 4 : 8, align = dtype === 'float32' ? 2 : 3;
+  const H = geo.ph - 2 * geo.hy, hy = geo.hy;
+  const { e, end, pairs, at } = tmp;
+  // first padded row: 0 when r0 = 0, else r0 + hy; last (exclusive): ph when r1 = H, else r1 + hy.
+  fb.get(tab).i32c(0).get(r0).i32c(hy).op(Op.i32Add).get(r0).op(Op.i32Eqz, Op.select).i32c(2).op(Op.i32Shl, Op.i32Add).mem(Op.i32Load, 2, 0).set(e);
+  fb.get(tab).i32c(geo.ph).get(r1).i32c(hy).op(Op.i32Add).get(r1).i32c(H).op(Op.i32LtS, Op.i32Eqz, Op.select).i32c(2).op(Op.i32Shl, Op.i32Add).mem(Op.i32Load, 2, 0).set(end);
+  fb.get(tab).i32c(4 * (geo.ph + 1)).op(Op.i32Add).set(pairs);
+  fb.op(Op.block, VOID, Op.loop, VOID);
+  fb.get(e).get(end).op(Op.i32GeS, Op.brIf).code.u32(1);
+  fb.get(pairs).get(e).i32c(3).op(Op.i32Shl, Op.i32Add).set(at);
+  // buf[dst] = buf[src]
+  base();
+  fb.get(at).mem(Op.i32Load, 2, 0).i32c(Math.log2(bytes)).op(Op.i32Shl, Op.i32Add);
+  base();
+  fb.get(at).mem(Op.i32Load, 2, 4).i32c(Math.log2(bytes)).op(Op.i32Shl, Op.i32Add);
+  fb.mem(bytes === 4 ? Op.f32Load : Op.f64Load, align, 0).mem(bytes === 4 ? Op.f32Store : Op.f64Store, align, 0);
+  fb.get(e).i32c(1).op(Op.i32Add).set(e);
+  fb.op(Op.br).code.u32(0);
+  fb.op(Op.end, Op.end);
+}
+
+/** Passes per block call at most, and the control words the block uses (in the arena, see backend.ts). */
+export const BLOCK_MAX_PASSES = 64;
+/**
+ * Per pass: chunk counter, chunks done, quiet flag, spare; then one word per thread: times it slept waiting; then
+ * the abort word (set when the other thread failed: the waiting thread returns BLOCK_ABORTED instead of waiting on).
+ */
+export const BLOCK_CTL_BYTES = BLOCK_MAX_PASSES * 16 + 16;
+export const BLOCK_ABORT_AT = BLOCK_MAX_PASSES * 16 + 8;
+export const BLOCK_ABORTED = -2;
+/** Per stored field (in store order): the lowest and highest value (f64) a quiet step may have. */
+export function blockLimitBytes(stores: number): number {
+  return Math.max(16, stores * 16);
+}
+/**
+ * Spins on the chunks-done counter before sleeping in memory.atomic.wait32 (a few milliseconds): the other thread is
+ * on its last chunk. A thread that slept wakes late (an idle virtual core can take milliseconds), finds the next pass
+ * taken, waits again, and so keeps falling behind while the other does all the work.
+ */
+const BLOCK_SPINS = 1 << 21;
+
+/**
+ * The block driver: up to `passes` two-step passes (the function `twoStepFn` of this module) in one call, on one
+ * or two threads running the same function over the same memory. Pass p reads the buffers `even` (p even) or `odd`
+ * (the updated fields' current and next swapped) and writes the other; each chunk of rows also refills the halo
+ * of its output rows, so the next pass reads a complete field. Chunks are claimed from one counter per pass with a
+ * compare-and-swap, thread 0 from the front, thread 1 from the back (`cap` chunks per pass at most, for tests); a
+ * thread that arrives late finds the counter empty and passes through. After its chunks a thread compares its own
+ * monitor slots of both steps with the limits (min >= lo, max <= hi per field; NaN fails), clears the pass's quiet
+ * flag when they fail, adds its chunks to the done counter, and waits (spinning, then memory.atomic.wait32) until
+ * every chunk of the pass is done. A pass whose flag was cleared ends the block: its output is ignored and the
+ * input (the fields after the passes before) is intact. Returns the number of quiet passes, or BLOCK_ABORTED when
+ * the abort word was set while this thread waited (the other thread failed).
+ * Params: even[nb], odd[nb], tables[ns], x0, x1, passes, ctl, lim, thread, cap, mon, scratch.
+ */
+export function emitBlock(kg: KernelGraph, bufs: readonly BufId[], dtype: DType, geo: TwoStepGeometry, twoStepFn: number): FnBody {
+  const nb = bufs.length, ns = kg.stores.length;
+  const H = geo.ph - 2 * geo.hy, rows = geo.rows, chunks = Math.ceil(H / rows);
+  const fb = new FnBody([...Array(2 * nb + ns + 9)].map((): ValType => I32), [I32]);
+  const EVEN = 0, ODD = nb, TAB = 2 * nb, X0 = TAB + ns, X1 = X0 + 1, PASSES = X0 + 2, CTL = X0 + 3, LIM = X0 + 4, THREAD = X0 + 5, CAP = X0 + 6, MON = X0 + 7, SCR = X0 + 8;
+  const p = fb.local(I32), c = fb.local(I32), n = fb.local(I32), w = fb.local(I32), lo = fb.local(I32), hi = fb.local(I32);
+  const ya = fb.local(I32), yb = fb.local(I32), q = fb.local(I32), spins = fb.local(I32), sleeps = fb.local(I32);
+  const tmp = { e: fb.local(I32), end: fb.local(I32), pairs: fb.local(I32), at: fb.local(I32) };
+  const odd = (): void => void fb.get(p).i32c(1).op(Op.i32And);
+  // The buffer argument k of this pass: odd[k] when p is odd, else even[k].
+  const bufOfPass = (k: number): void => {
+    fb.get(ODD + k).get(EVEN + k);
+    odd();
+    fb.op(Op.select);
+  };
+  const dOf = kg.stores.map(s => bufs.findIndex(b => b.kind === 'd' && b.index === s.field));
+  if (dOf.some(k => k < 0)) throw new Error('block driver: a stored field has no output buffer');
+  fb.i32c(0).set(p).i32c(0).set(sleeps);
+  fb.op(Op.loop, VOID);
+  // if (p >= passes) return p
+  fb.get(p).get(PASSES).op(Op.i32GeS, Op.if, VOID).get(p).op(Op.return, Op.end);
+  fb.get(CTL).get(p).i32c(4).op(Op.i32Shl, Op.i32Add).set(c);
+  // This thread's monitor slots of both steps start empty.
+  for (const s of kg.stores) {
+    for (const off of [0, 2 * MONITOR_BYTES]) {
+      fb.get(MON).f64c(Infinity).mem(Op.f64Store, 3, off + 16 * s.field);
+      fb.get(MON).f64c(-Infinity).mem(Op.f64Store, 3, off + 16 * s.field + 8);
+    }
+  }
+  fb.i32c(0).set(n);
+  fb.op(Op.block, VOID, Op.loop, VOID);
+  // if (n >= cap) break
+  fb.get(n).get(CAP).op(Op.i32GeS, Op.brIf).code.u32(1);
+  // claim: w = counter; lo = w & 0xffff; hi = w >>> 16; none left when lo >= hi
+  fb.get(c).atomic(Atomic.i32Load, 0).set(w);
+  fb.get(w).i32c(0xffff).op(Op.i32And).set(lo);
+  fb.get(w).i32c(16).op(Op.i32ShrU).set(hi);
+  fb.get(lo).get(hi).op(Op.i32GeS, Op.brIf).code.u32(1);
+  // cmpxchg(counter, w, thread ? w - 0x10000 : w + 1) != w: someone else claimed first, try again
+  fb.get(c).get(w);
+  fb.get(w).i32c(0x10000).op(Op.i32Sub).get(w).i32c(1).op(Op.i32Add).get(THREAD).op(Op.select);
+  fb.atomic(Atomic.i32Cmpxchg, 0).get(w).op(Op.i32Ne, Op.brIf).code.u32(0);
+  // the chunk: thread 1 took hi - 1, thread 0 took lo
+  fb.get(hi).i32c(1).op(Op.i32Sub).get(lo).get(THREAD).op(Op.select).i32c(rows).op(Op.i32Mul).set(ya);
+  fb.get(ya).i32c(rows).op(Op.i32Add).i32c(H).get(ya).i32c(rows).op(Op.i32Add).i32c(H).op(Op.i32LtS, Op.select).set(yb);
+  for (let k = 0; k < nb; k++) bufOfPass(k);
+  for (let j = 0; j < ns; j++) fb.get(TAB + j);
+  fb.get(X0).get(X1).get(ya).get(yb).get(MON).get(SCR).op(Op.call).code.u32(IMPORTS.length + twoStepFn);
+  // The halo of the rows just written, so the next pass (on either thread) reads a complete field.
+  kg.stores.forEach((_, j) => emitHaloRefill(fb, () => bufOfPass(dOf[j]), TAB + j, ya, yb, geo, dtype, tmp));
+  fb.get(n).i32c(1).op(Op.i32Add).set(n);
+  fb.op(Op.br).code.u32(0);
+  fb.op(Op.end, Op.end);
+  // quiet: every stored field's min >= lo and max <= hi in both steps (NaN compares false)
+  fb.i32c(1).set(q);
+  kg.stores.forEach((s, j) => {
+    for (const off of [0, 2 * MONITOR_BYTES]) {
+      fb.get(q);
+      fb.get(MON).mem(Op.f64Load, 3, off + 16 * s.field).get(LIM).mem(Op.f64Load, 3, 16 * j).op(Op.f64Ge, Op.i32And);
+      fb.get(MON).mem(Op.f64Load, 3, off + 16 * s.field + 8).get(LIM).mem(Op.f64Load, 3, 16 * j + 8).op(Op.f64Le, Op.i32And);
+      fb.set(q);
+    }
+  });
+  fb.get(q).op(Op.i32Eqz, Op.if, VOID).get(c).i32c(0).atomic(Atomic.i32Store, 8).op(Op.end);
+  // done += n; the thread completing the pass wakes the other
+  fb.get(n).op(Op.if, VOID);
+  fb.get(c).get(n).atomic(Atomic.i32Add, 4).get(n).op(Op.i32Add).i32c(chunks).op(Op.i32Eq, Op.if, VOID);
+  fb.get(c).i32c(1).atomic(Atomic.notify, 4).op(Op.drop);
+  fb.op(Op.end, Op.end);
+  // wait until every chunk of the pass is done
+  fb.i32c(0).set(spins);
+  fb.op(Op.block, VOID, Op.loop, VOID);
+  fb.get(c).atomic(Atomic.i32Load, 4).tee(w).i32c(chunks).op(Op.i32GeS, Op.brIf).code.u32(1);
+  fb.get(spins).i32c(1).op(Op.i32Add).tee(spins).i32c(BLOCK_SPINS).op(Op.i32GtS, Op.if, VOID);
+  fb.get(sleeps).i32c(1).op(Op.i32Add).set(sleeps);
+  fb.get(CTL).get(THREAD).i32c(2).op(Op.i32Shl, Op.i32Add).get(sleeps).mem(Op.i32Store, 2, BLOCK_MAX_PASSES * 16);
+  fb.get(CTL).atomic(Atomic.i32Load, BLOCK_ABORT_AT).op(Op.if, VOID).i32c(BLOCK_ABORTED).op(Op.return, Op.end);
+  fb.get(c).get(w).op(Op.i64Const).code.i32(1_000_000);
+  fb.atomic(Atomic.wait32, 4).op(Op.drop);
+  fb.op(Op.end);
+  fb.op(Op.br).code.u32(0);
+  fb.op(Op.end, Op.end);
+  // a pass that was not quiet ends the block without counting
+  fb.get(c).atomic(Atomic.i32Load, 8).op(Op.i32Eqz, Op.if, VOID).get(p).op(Op.return, Op.end);
+  fb.get(p).i32c(1).op(Op.i32Add).set(p);
+  fb.op(Op.br).code.u32(0);
+  fb.op(Op.end);
+  // (not reached: the loop only leaves by return)
+  fb.get(p);
   return fb;
 }

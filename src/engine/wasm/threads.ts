@@ -6,7 +6,12 @@
 import type { WasmMemory, WasmModule } from './wasmApi';
 
 /** Mailbox slots (Int32). */
-const SEQ = 0, STATE = 1, CFG = 2, FN = 3, NARGS = 4, ERROR = 5, CTR = 6, YA = 7, YB = 8, ROWS = 9, MON = 10, SCRATCH = 11, ARGS = 12, SLOTS = 80;
+const SEQ = 0, STATE = 1, CFG = 2, FN = 3, NARGS = 4, ERROR = 5, CTR = 6, YA = 7, YB = 8, ROWS = 9, MON = 10, SCRATCH = 11, MODE = 12, ABORT = 13, ARGS = 14, SLOTS = 80;
+/**
+ * Job modes: the helper claims chunks of rows itself (ROWS_MODE), calls the function once and it claims them
+ * (WHOLE_MODE), or only loads the module it was offered (LOAD_MODE, posted when a run's buffers are made).
+ */
+const ROWS_MODE = 0, WHOLE_MODE = 1, LOAD_MODE = 2;
 
 /**
  * The chunk counter packs the next chunk from the front (low 16 bits) and the end of the chunks left (high 16 bits);
@@ -20,6 +25,12 @@ function claimFront(m: Int32Array): number {
     if (Atomics.compareExchange(m, CTR, w, (lo + 1) | (hi << 16)) === w) return lo;
   }
 }
+
+/**
+ * After a job the helper spins this long for the next before sleeping: an idle virtual core can take milliseconds
+ * to wake (measured here: 0.05-3 ms), longer than the gaps between the jobs of a run.
+ */
+const HELPER_SPIN_MS = 2;
 
 /** Job states: the caller cancels a job the helper has not picked up by the time the caller ran out of chunks. */
 const PENDING = 1, RUNNING = 2, DONE = 3, CANCELLED = 4;
@@ -43,11 +54,11 @@ function claimBack(m) {
 const mail = new Int32Array(workerData.mail);
 const port = workerData.port;
 const math = { exp: Math.exp, log: Math.log, sin: Math.sin, cos: Math.cos, tanh: Math.tanh, sign: Math.sign, pow: Math.pow };
-let fns = [], cfg = 0, seen = 0;
+let fns = [], cfg = 0, seen = 0, mem32 = null;
 for (;;) {
   let s = Atomics.load(mail, ${SEQ});
   if (s === seen) {
-    const until = performance.now() + 0.1;
+    const until = performance.now() + ${HELPER_SPIN_MS};
     while (s === seen && performance.now() < until) s = Atomics.load(mail, ${SEQ});
   }
   while (s === seen) {
@@ -64,17 +75,22 @@ for (;;) {
       if (last) {
         const inst = new WebAssembly.Instance(last.module, { m: { ...math, memory: last.memory } });
         fns = last.names.map(n => inst.exports[n]);
+        mem32 = new Int32Array(last.memory.buffer);
       }
       cfg = c;
     }
     const fn = fns[mail[${FN}]], n = mail[${NARGS}], args = [];
     for (let k = 0; k < n; k++) args.push(mail[${ARGS} + k]);
     const ya = mail[${YA}], yb = mail[${YB}], rows = mail[${ROWS}], mon = mail[${MON}], scratch = mail[${SCRATCH}];
+    if (mail[${MODE}] === ${LOAD_MODE}) { /* loaded */ }
+    else if (mail[${MODE}] === ${WHOLE_MODE}) fn(...args, mon, scratch);
     // Chunks from the back (the caller takes them from the front): each thread keeps to its end of the image from
     // step to step, and so to the rows its cache holds.
-    for (let k; (k = claimBack(mail)) >= 0;) fn(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mon, scratch);
+    else for (let k; (k = claimBack(mail)) >= 0;) fn(...args, ya + k * rows, Math.min(yb, ya + (k + 1) * rows), mon, scratch);
   } catch (e) {
     Atomics.store(mail, ${ERROR}, 1);
+    // A function sharing its work (WHOLE_MODE) may have the caller waiting for this thread's chunks: release it.
+    if (mail[${MODE}] === ${WHOLE_MODE} && mem32) Atomics.store(mem32, mail[${ABORT}] >> 2, 1);
   }
   Atomics.store(mail, ${STATE}, ${DONE});
   Atomics.notify(mail, ${STATE});
@@ -101,6 +117,8 @@ export interface Helper {
 
 /** After this many slow jobs in a row the caller works alone for SOLO_MS, then tries the helper again. */
 const SLOW_JOBS = 3, SOLO_MS = 10;
+/** A sleeping helper takes up to about this long to wake (measured: 0.05-0.3 ms); shorter jobs may end first. */
+const WAKE_MS = 0.5;
 
 let helper: Helper | null | undefined;
 let forceHelper = false;
@@ -177,12 +195,9 @@ export function runShared(
     }
     h.soloUntil = 0;
   }
-  if (h.holds !== key) {
-    h.post({ module, memory, names });
-    h.cfg++;
-    Atomics.store(m, CFG, h.cfg);
-    h.holds = key;
-  }
+  settle(h);
+  offer(h, key, module, memory, names);
+  m[MODE] = ROWS_MODE;
   m[FN] = fn;
   m[NARGS] = args.length;
   for (let k = 0; k < args.length; k++) m[ARGS + k] = args[k];
@@ -221,4 +236,102 @@ export function runShared(
     throw new Error('the helper thread failed to run a kernel');
   }
   return 2;
+}
+
+/** Hands the helper the module and memory it must call into (a message, read when the config number changes). */
+function offer(h: Helper, key: string, module: WasmModule, memory: WasmMemory, names: readonly string[]): void {
+  if (h.holds === key) return;
+  h.post({ module, memory, names });
+  h.cfg++;
+  Atomics.store(h.mail, CFG, h.cfg);
+  h.holds = key;
+}
+
+/**
+ * Runs a function that shares its work with the helper itself (the block driver of kernel.ts): this thread calls
+ * `call(...args, 0, cap, mine)` while the helper calls the same function with `(...args, 1, unlimited, theirs)`.
+ * The function must finish its work alone when the helper never comes; then the job is cancelled. `helperSlow`
+ * (asked after the call) tells whether the helper kept this thread waiting, which counts towards working alone for a
+ * while, as in runShared. Returns the function's result and how many threads took part.
+ */
+export function runWhole(
+  h: Helper, key: string, module: WasmModule, memory: WasmMemory, names: readonly string[], fn: number,
+  call: (...a: number[]) => number, args: readonly number[], half: number,
+  mine: { mon: number; scratch: number }, theirs: { mon: number; scratch: number }, abortAt: number, helperSlow: () => boolean,
+): { result: number; threads: number } {
+  const m = h.mail, ALL = 0x7fffffff;
+  if (args.length + 2 > SLOTS - ARGS) throw new Error('too many kernel arguments for the helper thread');
+  if (!forceHelper && h.soloUntil > 0) {
+    if (performance.now() < h.soloUntil) return { result: call(...args, 0, ALL, mine.mon, mine.scratch), threads: 1 };
+    h.soloUntil = 0;
+  }
+  settle(h);
+  const fresh = h.holds !== key;
+  offer(h, key, module, memory, names);
+  m[MODE] = WHOLE_MODE;
+  m[FN] = fn;
+  m[NARGS] = args.length + 2;
+  for (let k = 0; k < args.length; k++) m[ARGS + k] = args[k];
+  m[ARGS + args.length] = 1;
+  m[ARGS + args.length + 1] = ALL;
+  m[MON] = theirs.mon;
+  m[SCRATCH] = theirs.scratch;
+  m[ABORT] = abortAt;
+  Atomics.store(m, STATE, PENDING);
+  h.seq++;
+  Atomics.store(m, SEQ, h.seq);
+  Atomics.notify(m, SEQ);
+  // Test mode: wait for the helper, then take at most half the chunks of each pass.
+  if (forceHelper) while (Atomics.load(m, STATE) === PENDING) Atomics.wait(m, STATE, PENDING, 50);
+  const t0 = performance.now();
+  let result: number, failure: unknown = null;
+  try {
+    result = call(...args, 0, forceHelper ? half : ALL, mine.mon, mine.scratch);
+  } catch (err) {
+    // The helper may be waiting for this thread's chunks: release it before reporting.
+    Atomics.store(new Int32Array(memory.buffer), abortAt >> 2, 1);
+    result = 0;
+    failure = err;
+  }
+  const t1 = performance.now();
+  if (Atomics.compareExchange(m, STATE, PENDING, CANCELLED) === PENDING) {
+    if (failure) throw failure;
+    // A helper that had to load a new module first, or a call too short to wake it, says nothing about the machine.
+    if (!fresh && t1 - t0 > WAKE_MS) noteHelper(h, true, t1);
+    return { result, threads: 1 };
+  }
+  // The helper passes through what is left (the work is done): a short spin, then sleep until it reports.
+  const until = t1 + 1;
+  while (Atomics.load(m, STATE) === RUNNING && performance.now() < until) { /* spin */ }
+  while (Atomics.load(m, STATE) === RUNNING) Atomics.wait(m, STATE, RUNNING, 1000);
+  noteHelper(h, helperSlow(), t1);
+  if (failure) throw failure;
+  if (Atomics.load(m, ERROR) !== 0) {
+    Atomics.store(m, ERROR, 0);
+    throw new Error('the helper thread failed to run a kernel');
+  }
+  return { result, threads: 2 };
+}
+
+/** Before posting a job: a load job still pending is cancelled (the next job loads), one running is waited for. */
+function settle(h: Helper): void {
+  const m = h.mail;
+  if (Atomics.compareExchange(m, STATE, PENDING, CANCELLED) === PENDING) return;
+  while (Atomics.load(m, STATE) === RUNNING) Atomics.wait(m, STATE, RUNNING, 1000);
+}
+
+/**
+ * Offers the helper a module and memory ahead of the first job (when a run's buffers are made), and wakes it to
+ * instantiate them while the run is still being set up. Nothing waits for it.
+ */
+export function preload(h: Helper, key: string, module: WasmModule, memory: WasmMemory, names: readonly string[]): void {
+  if (h.holds === key) return;
+  settle(h);
+  offer(h, key, module, memory, names);
+  const m = h.mail;
+  m[MODE] = LOAD_MODE;
+  Atomics.store(m, STATE, PENDING);
+  h.seq++;
+  Atomics.store(m, SEQ, h.seq);
+  Atomics.notify(m, SEQ);
 }

@@ -1,5 +1,6 @@
 // Runner semantics: lets on the extended grid, primed reads, constant fields, coordinates, time, 1d middle row, tiny images.
 import { describe, expect, it } from 'vitest';
+import { JsBackend } from '../../../src/engine/jsBackend';
 import { createRun } from '../../../src/engine/run';
 import { expectClose, randomImage, schemeOf } from './util';
 
@@ -91,9 +92,24 @@ describe('grid shapes', () => {
 describe('cancellation', () => {
   it('shouldCancel is checked before every step: a run cancelled after step 5 has done exactly 5 steps', () => {
     const s = schemeOf(`grid 2d\nstep dt = 0.2\nsteps 50\nfield u = image\nu' = u + dt * sum n in N4: u[n] - u\n`);
+    // Single steps: the JavaScript backend, or any backend when the caller reads the fields every step.
+    for (const opts of [{ backend: new JsBackend() }, {}]) {
+      const run = createRun(s, { image: randomImage(8, 8, 1), ...opts });
+      let seen = 0;
+      const r = run.runSync({ everyStep: !('backend' in opts), onProgress: step => { seen = step; }, shouldCancel: () => seen >= 5 });
+      expect([r.status, r.stepsDone]).toEqual(['cancelled', 5]);
+    }
+  });
+  it('with several steps per backend call, shouldCancel is asked after each call: the run ends at that call\'s last step', () => {
+    const s = schemeOf(`grid 2d\nstep dt = 0.2\nsteps 500\nfield u = image\nu' = u + dt * sum n in N4: u[n] - u\n`);
     const run = createRun(s, { image: randomImage(8, 8, 1) });
-    let seen = 0;
-    const r = run.runSync({ onProgress: step => { seen = step; }, shouldCancel: () => seen >= 5 });
-    expect([r.status, r.stepsDone]).toEqual(['cancelled', 5]);
+    let seen = 0, asked = 0;
+    const r = run.runSync({ onProgress: step => { seen = step; }, shouldCancel: () => (asked++, seen >= 5) });
+    expect(r.status).toBe('cancelled');
+    expect(r.stepsDone).toBe(seen);
+    expect(r.stepsDone).toBeGreaterThanOrEqual(5);
+    expect(r.stepsDone).toBeLessThan(500);
+    // Asked before the first call and after each call up to the one that reported step 5.
+    expect(asked).toBeLessThanOrEqual(5 + 1);
   });
 });

@@ -1,6 +1,8 @@
-// Two steps per pass (temporal blocking) against single steps on the same SIMD kernels: step s + 1 of each chunk
-// of rows is computed into a band buffer (with the rows its neighbours need computed twice) and its halo refilled
-// there, so the results must be bitwise those of single steps, with the same frames, warnings and monitors' findings.
+// Two steps per pass (temporal blocking), several passes per call, against single steps on the same SIMD kernels:
+// step s + 1 of each chunk of rows is computed into a band buffer (with the rows its neighbours need computed twice)
+// and its halo refilled there, each chunk refills the halo of its output rows for the next pass, and a pass whose
+// steps are not quiet ends the call; the results must be bitwise those of single steps, with the same frames,
+// warnings and monitors' findings.
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it, vi } from 'vitest';
@@ -24,7 +26,7 @@ function compare(text: string, w: number, h: number, opts: { steps?: number; eve
   const common = { image, width: w, height: h, steps: opts.steps, every: opts.every, dtype: opts.dtype };
   // The compiled scheme is cached per backend: the run below uses this very object.
   const compiled = paired.compile(s, { dtype: opts.dtype ?? 'float32' });
-  const spy = vi.spyOn(compiled, 'updateTwice' as never) as unknown as { mock: { results: { value: unknown }[] }; mockRestore(): void };
+  const spy = vi.spyOn(compiled, 'updatePasses' as never) as unknown as { mock: { calls: unknown[][]; results: { value: unknown }[] }; mockRestore(): void };
   const a = createRun(s, { ...common, backend: paired }), b = createRun(s, { ...common, backend: single });
   const progress: number[] = [];
   const ra = a.runSync({ onProgress: k => progress.push(k) }), rb = b.runSync();
@@ -40,9 +42,12 @@ function compare(text: string, w: number, h: number, opts: { steps?: number; eve
   expect(ra.stepsDone).toBe(rb.stepsDone);
   // Every step is reported, in order, paired or not.
   expect(progress).toEqual(Array.from({ length: ra.stepsDone }, (_, k) => k + 1));
-  const passes = spy.mock.results.filter(r => r.value === true).length;
+  const done = spy.mock.results.map(r => r.value as number);
+  const passes = done.filter(v => v > 0).reduce((x, y) => x + y, 0);
+  // Calls asked for more than one pass once the first call's time was known.
+  const longest = Math.max(0, ...spy.mock.calls.map(c => c[2] as number));
   spy.mockRestore();
-  return { s, a, ra, common, passes };
+  return { s, a, ra, common, passes, longest, calls: done.length };
 }
 
 describe('two steps per pass equal single steps, bitwise', () => {
@@ -81,26 +86,44 @@ describe('two steps per pass equal single steps, bitwise', () => {
     expect(ra.warnings.map(w => w.kind).sort()).toEqual(['growth', 'new-extremum']);
     expect(passes).toBeGreaterThan(0);
   });
-  it('a cancel between the two steps of a pass ends the run after the first, as with single steps', () => {
+  it('several passes per call: 200 steps on a small image, with frames every 50', () => {
+    // Each frame measures the change from the step before: steps 49 and 50 (and so on) single, 24 passes per 50.
+    const r = compare(PM, 24, 40, { steps: 200, every: 50 });
+    expect(r.passes).toBe(96);
+    expect(r.longest).toBeGreaterThan(1);
+    expect(r.calls).toBeLessThan(100);
+  });
+  it('a pass that is not quiet in the middle of a call ends the call; single steps find the pixel', () => {
+    // Rows below 20 grow by 1.001 per step: the first step leaves the initial range (new-extremum, found by single
+    // steps), the growth bound 1e3 is crossed after ~7000 steps, far inside a call of many passes.
+    const { ra, passes, longest } = compare(`grid 2d\nboundary reflect\nstep dt = 1\nsteps 9000\nfield u = image\nu' = if y > 20 then u * 1.001 else u\n`, 16, 32);
+    expect(ra.warnings.map(w => w.kind)).toEqual(['new-extremum', 'growth']);
+    expect(ra.warnings[1].step).toBeGreaterThan(6000);
+    expect(longest).toBeGreaterThan(1);
+    expect(passes).toBeGreaterThan(4000);
+  });
+  it('a cancel is asked between calls and ends the run at the last step of a call, as single steps to there', () => {
     const s = schemeOf(PM);
     const image = randomImage(40, 30, 8);
-    for (const stop of [5, 6]) {
-      const a = createRun(s, { image, steps: 12, backend: paired });
+    for (const stop of [5, 6, 41]) {
+      const a = createRun(s, { image, steps: 120, backend: paired });
       let seen = 0;
       const calls: string[] = [];
       const r = a.runSync({ onProgress: k => { seen = k; calls.push(`p${k}`); }, shouldCancel: () => { calls.push('c'); return seen >= stop; } });
-      expect([r.status, r.stepsDone]).toEqual(['cancelled', stop]);
-      // The same callbacks in the same order as single steps: ask, step, report.
-      expect(calls).toEqual([...Array.from({ length: stop }, (_, k) => ['c', `p${k + 1}`]).flat(), 'c']);
-      const b = createRun(s, { image, steps: stop, backend: single });
+      expect(r.status).toBe('cancelled');
+      expect(r.stepsDone).toBeGreaterThanOrEqual(stop);
+      // Every step reported once, in order; the last ask came after the last step.
+      expect(calls.filter(c => c !== 'c')).toEqual(Array.from({ length: r.stepsDone }, (_, k) => `p${k + 1}`));
+      expect(calls[calls.length - 1]).toBe('c');
+      const b = createRun(s, { image, steps: r.stepsDone, backend: single });
       b.runSync();
-      expectClose(a.fieldData(0), b.fieldData(0), 0, `cancelled after step ${stop}`);
+      expectClose(a.fieldData(0), b.fieldData(0), 0, `cancelled after step ${r.stepsDone}`);
     }
   });
   it('no passes when onProgress reads the fields (everyStep)', () => {
     const s = schemeOf(PM);
     const compiled = paired.compile(s, { dtype: 'float32' });
-    const spy = vi.spyOn(compiled, 'updateTwice' as never) as unknown as { mockRestore(): void };
+    const spy = vi.spyOn(compiled, 'updatePasses' as never) as unknown as { mockRestore(): void };
     const r = createRun(s, { image: randomImage(20, 20, 2), steps: 10, backend: paired });
     const means: number[] = [];
     r.runSync({ everyStep: true, onProgress: () => means.push(Array.from(r.fieldData(0)).reduce((x, y) => x + y, 0)) });
