@@ -26,6 +26,8 @@ describe('two threads equal one, bitwise', () => {
     // No lets, reflect: two steps per pass, each thread with its own band buffers.
     ['heat-2d (two steps per pass)', example('heat-2d'), 70, 90, 21],
     ['eight-neighbour (two steps per pass, corners)', example('eight-neighbour'), 50, 77, 20],
+    // Many passes per call: the threads meet inside WebAssembly after every pass.
+    ['heat-2d, 400 steps (many passes per call)', example('heat-2d'), 70, 90, 400],
   ];
   for (const [what, text, w, h, steps] of cases) {
     it(what, () => {
@@ -49,6 +51,21 @@ describe('two threads equal one, bitwise', () => {
     const rb = createRun(s, { image, backend: two }).runSync();
     expect(rb.status).toBe('blow-up');
     expect(rb.warnings).toEqual(ra.warnings);
+  });
+
+  it('a failure in the helper\'s share of a call is reported instead of waited for, and the next run works', () => {
+    const s = schemeOf(example('heat-2d'));
+    const image = randomImage(40, 64, 4);
+    const run = createRun(s, { image, steps: 40, backend: two });
+    // Point the helper's band buffers outside the memory: its first chunk traps.
+    const compiled = two.compile(s, { dtype: 'float32' }) as unknown as { arenaOf(ctx: unknown): { scratch: number[] } };
+    const arena = compiled.arenaOf((run as unknown as { ctx: unknown }).ctx);
+    arena.scratch = [arena.scratch[0], 0x7ff00000];
+    expect(() => run.runSync()).toThrow(/helper thread failed/);
+    const again = createRun(s, { image, steps: 40, backend: two }).runSync();
+    const ref = createRun(s, { image, steps: 40, backend: one }).runSync();
+    expect(again.stepsDone).toBe(40);
+    expect(again.frames).toEqual(ref.frames);
   });
 
   it('two runs in turn on the helper thread (it reloads the other module and memory)', () => {
