@@ -215,13 +215,16 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   const mx = monitors ? kg.stores.map(() => fb.local(V128)) : [];
   const nan = monitors ? kg.stores.map(() => fb.local(V128)) : [];
   /**
-   * Float32 monitors on the bits, as integers: signed and unsigned min and max (four accumulators per store). A
-   * value's bits order like the value among values with the sign bit clear (signed and unsigned alike) and in
-   * reverse among values with it set, which sort above the others as unsigned and below as signed; so the minimum
-   * is the largest unsigned bits when a negative value occurred, else the smallest signed, and the maximum the
-   * largest signed when a value with the sign bit clear occurred, else the smallest unsigned. NaNs sit beyond
-   * ±Infinity and show up in one of the two (then both are reported NaN, below). Integer min/max keep the
-   * monitors off the floating-point add ports, where compares and float min/max would queue behind the sums.
+   * Float32 monitors on the bits, as integers: unsigned min and max and signed max (three accumulators per store).
+   * A value's bits order like the value among values with the sign bit clear (signed and unsigned alike) and in
+   * reverse among values with it set, which sort above the others as unsigned and below as signed. So per lane the
+   * minimum is the largest unsigned bits when a value with the sign bit set occurred (the most negative), else the
+   * smallest unsigned (the smallest of values with the sign bit clear); the maximum is the largest signed bits when
+   * a value with the sign bit clear occurred, else the smallest unsigned (the negative value nearest zero). NaNs
+   * sit beyond ±Infinity and show up in one of the two (then both are reported NaN, below). Every lane of a band
+   * that is not empty holds a value (a row's last vector ends at its end), and an empty band merges nothing.
+   * Integer min/max keep the monitors off the floating-point add ports, where compares and float min/max would
+   * queue behind the sums.
    */
   const INTMON = f32;
   const mnU = monitors && INTMON ? kg.stores.map(() => fb.local(V128)) : [];
@@ -364,9 +367,8 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   const i32s = (v: number): number[] => [v | 0, v | 0, v | 0, v | 0];
   for (let k = 0; k < mn.length; k++) {
     if (INTMON) {
-      fb.v128c(i32s(0x7f800000), 'i32').set(mn[k]); // signed min of the bits; +Infinity when the band is empty
       fb.v128c(i32s(0x80000000), 'i32').set(mx[k]); // signed max
-      fb.v128c(i32s(0xff800000), 'i32').set(mnU[k]); // unsigned min; -Infinity when the band is empty
+      fb.v128c(i32s(0xffffffff), 'i32').set(mnU[k]); // unsigned min
       fb.v128c(i32s(0), 'i32').set(mxU[k]); // unsigned max
       continue;
     }
@@ -387,7 +389,6 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
         fb.set(sv);
         fb.get(addr[storeBufs[k]]).get(sv).mem(Simd.store, align, (geo.hy * geo.pw + geo.hx + copy * L) * bytes, true);
         if (monitors && INTMON) {
-          fb.get(mn[k]).get(sv).simd(Simd.i32x4MinS).set(mn[k]);
           fb.get(mx[k]).get(sv).simd(Simd.i32x4MaxS).set(mx[k]);
           fb.get(mnU[k]).get(sv).simd(Simd.i32x4MinU).set(mnU[k]);
           fb.get(mxU[k]).get(sv).simd(Simd.i32x4MaxU).set(mxU[k]);
@@ -474,13 +475,15 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   fb.op(Op.br).code.u32(0);
   fb.op(Op.end); // rows loop
   fb.op(Op.end); // block: an empty band still reports its (empty) monitors
-  // Monitors: reduce the lanes and merge (min, max) as Float64 into the monitor slot.
+  // Monitors: reduce the lanes and merge (min, max) as Float64 into the monitor slot; the Float32 accumulators
+  // mean something only when the band held a value.
+  if (monitors && INTMON) fb.get(Y0).get(Y1).op(Op.i32LtS, Op.if, VOID);
   kg.stores.forEach((s, k) => {
     if (!monitors) return;
     if (INTMON) {
-      // min: the largest unsigned bits if some lane held a negative value (sign bit set), else the smallest signed;
-      // max: the largest signed bits if some lane held a value with the sign bit clear, else the smallest unsigned.
-      fb.get(mxU[k]).get(mn[k]).get(mxU[k]).v128c(i32s(0), 'i32').simd(Simd.i32x4LtS).simd(Simd.bitselect).set(mn[k]);
+      // min: the largest unsigned bits if the lane held a value with the sign bit set, else the smallest unsigned;
+      // max: the largest signed bits if the lane held a value with the sign bit clear, else the smallest unsigned.
+      fb.get(mxU[k]).get(mnU[k]).get(mxU[k]).v128c(i32s(0), 'i32').simd(Simd.i32x4LtS).simd(Simd.bitselect).set(mn[k]);
       fb.get(mx[k]).get(mnU[k]).get(mx[k]).v128c(i32s(0), 'i32').simd(Simd.i32x4GeS).simd(Simd.bitselect).set(mx[k]);
       fb.get(mn[k]).get(mn[k]).simd(T.ne).get(mx[k]).get(mx[k]).simd(T.ne).simd(Simd.or).set(nan[k]);
     }
@@ -498,6 +501,7 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
       fb.mem(Op.f64Store, 3, s.field * 16 + off);
     }
   });
+  if (monitors && INTMON) fb.op(Op.end);
   return { body: fb, bufs };
 }
 
