@@ -14,7 +14,7 @@ import {
   MONITOR_AT, MONITOR_BYTES, PARAMS_AT, planTableBytes, rowFluxBytes, twoStepSlotBytes, type BufId,
 } from './kernel';
 import { wasmApi, type WasmMemory, type WasmModule } from './wasmApi';
-import { coreCount, getHelper, preload, runShared, runWhole } from './threads';
+import { coreCount, getHelper, preload, runningHelper, runShared, runWhole } from './threads';
 
 /** Below this many pixels a second thread saves little (a step is a fraction of a millisecond, the barrier is not). */
 const THREAD_MIN_PIXELS = 512 * 512;
@@ -158,10 +158,14 @@ class WasmCompiled implements CompiledScheme {
     }
     const out: FieldArray[] = [];
     for (let k = 0; k < count; k++) out.push(arena.alloc());
-    // Instantiate the kernels now, not in the first (timed) step, and let the helper thread do the same meanwhile.
-    const inst = this.instance(arena, g);
-    const h = threads > 1 ? getHelper() : null;
-    if (h) preload(h, inst.key, inst.module, arena.memory, inst.names);
+    // Where this geometry's module is compiled already (a run after the first), instantiate it now rather than in
+    // the first (timed) step, and let a running helper thread do the same meanwhile. A first run compiles in its
+    // first step, after its start frame is out (compiling here would delay that frame by tens of milliseconds).
+    if (this.modules.has(geometryKey(g))) {
+      const inst = this.instance(arena, g);
+      const h = threads > 1 ? runningHelper() : null;
+      if (h) preload(h, inst.key, inst.module, arena.memory, inst.names);
+    }
     return out;
   }
 
@@ -191,7 +195,7 @@ class WasmCompiled implements CompiledScheme {
   }
 
   private prepare(arena: Arena, g: Geometry): Prepared {
-    const key = `${g.pw},${g.ph},${g.haloX},${g.haloY}`;
+    const key = geometryKey(g);
     let m = this.modules.get(key);
     if (!m) {
       const geo = { pw: g.pw, hx: g.haloX, hy: g.haloY };
@@ -360,6 +364,11 @@ class WasmCompiled implements CompiledScheme {
     this.threadsUsed = 2;
     return r.result;
   }
+}
+
+/** Modules are compiled per padded geometry (row stride and halo are baked into the code). */
+function geometryKey(g: Geometry): string {
+  return `${g.pw},${g.ph},${g.haloX},${g.haloY}`;
 }
 
 const rowLocalPlans = new WeakMap<object, boolean>();

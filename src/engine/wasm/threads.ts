@@ -153,6 +153,11 @@ export function coreCount(): number {
   return os.availableParallelism ? os.availableParallelism() : os.cpus().length;
 }
 
+/** The process's helper thread if it was started already (else null: starting one takes a few milliseconds). */
+export function runningHelper(): Helper | null {
+  return helper ?? null;
+}
+
 /** The process's helper thread, started on first call; null where worker threads are unavailable. */
 export function getHelper(): Helper | null {
   if (helper !== undefined) return helper;
