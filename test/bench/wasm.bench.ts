@@ -63,11 +63,11 @@ function median(xs: number[]): number {
 function engine(text: string, n: number, steps: number, backend: KernelBackend): { seconds: number; cpu: number; mean: number; backend: string } {
   const r = parseAndCheck(text);
   if (!r.scheme) throw new Error('bench scheme has errors');
-  // One warm-up step outside the timing, as the C and NumPy baselines take: steps + 1 in all.
-  const run = createRun(r.scheme, { image: image(n), steps: steps + 1, backend });
   // Collect the garbage of earlier runs (their buffers are tens of MB) now, not in the timed steps: run.mjs starts
   // Node with --expose-gc.
   (globalThis as { gc?: () => void }).gc?.();
+  // One warm-up step outside the timing, as the C and NumPy baselines take: steps + 1 in all.
+  const run = createRun(r.scheme, { image: image(n), steps: steps + 1, backend });
   run.step();
   const warm = run.stepSeconds;
   // CPU time of the whole process over the steps (both threads; frames excluded as in stepSeconds), in seconds.

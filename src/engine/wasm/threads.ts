@@ -31,6 +31,8 @@ function claimFront(m: Int32Array): number {
  * to wake (measured here: 0.05-3 ms), longer than the gaps between the jobs of a run.
  */
 const HELPER_SPIN_MS = 2;
+/** After loading a run's module (preload), the first job of the run may take longer to come: spin this long. */
+const PRELOAD_SPIN_MS = 50;
 
 /** Job states: the caller cancels a job the helper has not picked up by the time the caller ran out of chunks. */
 const PENDING = 1, RUNNING = 2, DONE = 3, CANCELLED = 4;
@@ -54,11 +56,11 @@ function claimBack(m) {
 const mail = new Int32Array(workerData.mail);
 const port = workerData.port;
 const math = { exp: Math.exp, log: Math.log, sin: Math.sin, cos: Math.cos, tanh: Math.tanh, sign: Math.sign, pow: Math.pow };
-let fns = [], cfg = 0, seen = 0, mem32 = null;
+let fns = [], cfg = 0, seen = 0, mem32 = null, spinMs = ${HELPER_SPIN_MS};
 for (;;) {
   let s = Atomics.load(mail, ${SEQ});
   if (s === seen) {
-    const until = performance.now() + ${HELPER_SPIN_MS};
+    const until = performance.now() + spinMs;
     while (s === seen && performance.now() < until) s = Atomics.load(mail, ${SEQ});
   }
   while (s === seen) {
@@ -82,6 +84,9 @@ for (;;) {
     const fn = fns[mail[${FN}]], n = mail[${NARGS}], args = [];
     for (let k = 0; k < n; k++) args.push(mail[${ARGS} + k]);
     const ya = mail[${YA}], yb = mail[${YB}], rows = mail[${ROWS}], mon = mail[${MON}], scratch = mail[${SCRATCH}];
+    // After loading a run's module the first job comes once the run is set up (its first frame, the monitors'
+    // analysis): wait for it spinning a while longer, so the run's first steps find this thread awake.
+    spinMs = mail[${MODE}] === ${LOAD_MODE} ? ${PRELOAD_SPIN_MS} : ${HELPER_SPIN_MS};
     if (mail[${MODE}] === ${LOAD_MODE}) { /* loaded */ }
     else if (mail[${MODE}] === ${WHOLE_MODE}) fn(...args, mon, scratch);
     // Chunks from the back (the caller takes them from the front): each thread keeps to its end of the image from
@@ -119,6 +124,8 @@ export interface Helper {
 const SLOW_JOBS = 3, SOLO_MS = 10;
 /** A sleeping helper takes up to about this long to wake (measured: 0.05-0.3 ms); shorter jobs may end first. */
 const WAKE_MS = 0.5;
+/** How long making a run's buffers waits for the helper to load the run's module (see preload). */
+const PRELOAD_WAIT_MS = 5;
 
 let helper: Helper | null | undefined;
 let forceHelper = false;
@@ -326,8 +333,10 @@ function settle(h: Helper): void {
 }
 
 /**
- * Offers the helper a module and memory ahead of the first job (when a run's buffers are made), and wakes it to
- * instantiate them while the run is still being set up. Nothing waits for it.
+ * Offers the helper a module and memory ahead of the first job (when a run's buffers are made), wakes it to
+ * instantiate them, and waits (at most PRELOAD_WAIT_MS) until it has: an idle virtual core can take milliseconds to
+ * wake, and a run's first steps should not go without the helper for that long. The helper then spins for the
+ * first job.
  */
 export function preload(h: Helper, key: string, module: WasmModule, memory: WasmMemory, names: readonly string[]): void {
   if (h.holds === key) return;
@@ -339,4 +348,8 @@ export function preload(h: Helper, key: string, module: WasmModule, memory: Wasm
   h.seq++;
   Atomics.store(m, SEQ, h.seq);
   Atomics.notify(m, SEQ);
+  const until = performance.now() + PRELOAD_WAIT_MS;
+  for (let left = PRELOAD_WAIT_MS; Atomics.load(m, STATE) !== DONE && left > 0; left = until - performance.now()) {
+    Atomics.wait(m, STATE, Atomics.load(m, STATE), left);
+  }
 }
