@@ -184,7 +184,7 @@ export class Run {
   private passSeconds = 0;
   /** The step at which a pass was found not quiet: from there the runner takes single steps until the next call. */
   private noPassAt = -1;
-  /** The range a quiet step stays in, per field (see quiet). */
+  /** The range a quiet step stays in, per field (see quietLimits). */
   private readonly limits: StepLimits;
   private readonly blurTaps: (Float64Array | null)[];
   private readonly scratch: FieldArray | null;
@@ -424,8 +424,8 @@ export class Run {
    * per-thread band buffers), when nothing needs a field between them: no lets, no change rule, no frame inside the
    * call (nor at its end when frames measure the change per step, which needs the step before), no sensitivities,
    * no caller reading the fields after every step. A pass counts only when both its steps are quiet (the monitors
-   * have nothing to report, see quiet); the first pass that is not ends the call with the fields as before it, and the
-   * runner takes single steps from there, which find and report the pixel. A call is kept near PASS_CALL_SECONDS so
+   * have nothing to report, see quietLimits); the first pass that is not ends the call with the fields as before it,
+   * and the runner takes single steps from there, which find and report the pixel. A call is kept near PASS_CALL_SECONDS so
    * progress and cancellation (asked between calls) stay prompt. Returns false when no pass was taken.
    */
   private stepPasses(cb: RunCallbacks): boolean {
