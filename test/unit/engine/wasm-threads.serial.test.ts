@@ -2,7 +2,7 @@
 // results must be bitwise equal (and the monitors' findings the same). Starts the helper thread, hence serial.
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { createRun } from '../../../src/engine/run';
 import { WasmBackend } from '../../../src/engine/wasm/backend';
 import { forceHelperShare } from '../../../src/engine/wasm/threads';
@@ -10,6 +10,8 @@ import { expectClose, randomImage, schemeOf } from './util';
 
 const one = new WasmBackend({ threads: 1 });
 const two = new WasmBackend({ threads: 2 });
+const PM = `grid 2d\nboundary reflect\nparam K = 0.05 in [0, 1]\nstep dt = 0.2\nsteps 13\nfield u = image\n` +
+  `diffusivity g(s) = 1 / (1 + s^2 / K^2)\nu' = u + dt * sum n in N4: g(u[n] - u) * (u[n] - u)\n`;
 const example = (name: string) => readFileSync(join(__dirname, '../../../examples', `${name}.fluxel`), 'utf8');
 
 // Normally the helper takes whatever chunks of rows are left when it wakes (maybe none); here it must run half.
@@ -17,7 +19,7 @@ beforeAll(() => forceHelperShare(true));
 afterAll(() => forceHelperShare(false));
 
 describe('two threads equal one, bitwise', () => {
-  const cases: [string, string, number, number, number | undefined][] = [
+  const cases: [string, string, number, number, number | undefined, ('float32' | 'float64')?][] = [
     ['edge-preserving (blur let in JS between steps)', example('edge-preserving'), 67, 61, 15],
     ['tv-flow (an expr let split in bands too)', example('tv-flow'), 40, 33, 30],
     ['gray-scott (two fields, periodic)', example('gray-scott'), 80, 80, 50],
@@ -28,16 +30,25 @@ describe('two threads equal one, bitwise', () => {
     ['eight-neighbour (two steps per pass, corners)', example('eight-neighbour'), 50, 77, 20],
     // Many passes per call: the threads meet inside WebAssembly after every pass.
     ['heat-2d, 400 steps (many passes per call)', example('heat-2d'), 70, 90, 400],
+    ['Perona–Malik without lets, Float64, 300 steps (many passes per call)', PM, 61, 47, 300, 'float64'],
+    ['wave, 200 steps (two fields in the passes)', example('wave'), 64, 40, 200],
   ];
-  for (const [what, text, w, h, steps] of cases) {
+  for (const [what, text, w, h, steps, dtype] of cases) {
     it(what, () => {
       const s = schemeOf(text);
       const image = s.fields.some(f => f.init.kind === 'image') ? randomImage(w, h, 11) : null;
-      const a = createRun(s, { image, width: w, height: h, steps, backend: one });
-      const b = createRun(s, { image, width: w, height: h, steps, backend: two });
+      const a = createRun(s, { image, width: w, height: h, steps, backend: one, dtype });
+      const b = createRun(s, { image, width: w, height: h, steps, backend: two, dtype });
+      // The compiled scheme is cached per backend: the run above uses this very object.
+      const spy = vi.spyOn(two.compile(s, { dtype: dtype ?? 'float32' }), 'updatePasses' as never) as unknown as { mock: { results: { value: unknown }[] }; mockRestore(): void };
       const ra = a.runSync(), rb = b.runSync();
-      expect(ra.backend).toMatch(/^wasm \(f32x4, 1 thread/);
-      expect(rb.backend).toMatch(/^wasm \(f32x4, 2 threads/);
+      const most = Math.max(0, ...spy.mock.results.map(r => r.value as number));
+      spy.mockRestore();
+      // Long runs of schemes without lets take many passes per call on both threads.
+      if ((steps ?? 0) >= 200) expect(most, 'passes in one call').toBeGreaterThan(1);
+      const lanes = dtype === 'float64' ? 'f64x2' : 'f32x4';
+      expect(ra.backend).toMatch(new RegExp(`^wasm \\(${lanes}, 1 thread`));
+      expect(rb.backend).toMatch(new RegExp(`^wasm \\(${lanes}, 2 threads`));
       s.fields.forEach((f, k) => expectClose(b.fieldData(k), a.fieldData(k), 0, `${what}: ${f.name}`));
       expect(rb.frames).toEqual(ra.frames);
       expect(rb.warnings).toEqual(ra.warnings);
