@@ -357,9 +357,10 @@ class WasmCompiled implements CompiledScheme {
       this.threadsUsed = 1;
       return call(...args, 0, 0x7fffffff, mine.mon, mine.scratch);
     }
-    // The helper kept this thread waiting when this thread had to sleep for it in more than a quarter of the passes.
+    // The helper kept this thread waiting when this thread slept for it at all: it sleeps only after spinning about
+    // a millisecond (a quarter of a call), while a chunk takes microseconds to a few tenths of a millisecond.
     const r = runWhole(h, inst.key, inst.module, arena.memory, inst.names, fn, call, args, chunks >> 1, mine,
-      { mon: MONITOR_AT + MONITOR_BYTES, scratch: arena.scratch[1] }, arena.ctl + BLOCK_ABORT_AT, () => 4 * words[4 * BLOCK_MAX_PASSES] > n);
+      { mon: MONITOR_AT + MONITOR_BYTES, scratch: arena.scratch[1] }, arena.ctl + BLOCK_ABORT_AT, () => words[4 * BLOCK_MAX_PASSES] > 0);
     if (r.result === BLOCK_ABORTED) throw new Error('the helper thread failed to run a kernel');
     this.threadsUsed = 2;
     return r.result;
