@@ -166,6 +166,9 @@ for (const c of cases.filter(x => !process.env.CASE || x.kind === process.env.CA
   const R2 = median(t.r2), R1 = median(t.r1);
   console.log(`  wasm, 2 threads: ${(W2 * 1e3).toFixed(1)} ms = ${(W2 / C).toFixed(2)}× C; median of paired ratios ${R2.toFixed(2)}×  (target ≤ ${c.target.toFixed(1)}×: ${R2 <= c.target ? 'met' : 'NOT met'})`);
   console.log(`  wasm, 1 thread:  ${(W1 * 1e3).toFixed(1)} ms = ${(W1 / C).toFixed(2)}× C; median of paired ratios ${R1.toFixed(2)}×`);
+  // How much the second thread gave: near 2× when the host runs both virtual cores at once, near 1× when it does not.
+  const S = median(t.w1.map((w, k) => w / t.w2[k]));
+  console.log(`  two threads vs one: ${S.toFixed(2)}× faster (median of paired ratios; near 2× when both cores are free, lower when the host gave this machine less than two cores)`);
   const CC = median(t.cc), CW2 = median(t.cw2), CW1 = median(t.cw1);
   console.log(`  CPU time (less sensitive to other load): C ${(CC * 1e3).toFixed(1)} ms, wasm 1 thread ${(CW1 * 1e3).toFixed(1)} ms = ${(CW1 / CC).toFixed(2)}×, ` +
     `wasm 2 threads ${(CW2 * 1e3).toFixed(1)} ms over both = ${(CW2 / 2 / CC).toFixed(2)}× C per core (the wall ratio two free cores would give)`);
