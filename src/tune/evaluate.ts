@@ -4,7 +4,7 @@
 
 import { metricSensitivities } from '../analysis/metricGradients';
 import { psnr, ssim, SSIM_WINDOW, type MetricImage } from '../analysis/metrics';
-import { createRun, middleRow, type RunImage } from '../engine';
+import { createRun, middleRow, type RunImage, type RunOptions } from '../engine';
 import type { CheckedScheme } from '../notation/scheme';
 
 export type MetricName = 'psnr' | 'ssim';
@@ -73,15 +73,20 @@ export function argBest(values: ArrayLike<number>): { step: number; value: numbe
   return { step, value };
 }
 
-/** Runs one setting and returns the metric curve over every step (step 0 is the noisy input itself). */
-export function evaluateSetting(scheme: CheckedScheme, task: EvaluationTask, setting: Setting): Curve {
+/** The run of one setting: its params and dt, the task's pictures (every image field's), steps and dtype. */
+function runOf(scheme: CheckedScheme, task: EvaluationTask, setting: Setting, extra: Partial<RunOptions> = {}): ReturnType<typeof createRun> {
   const params: Record<string, number> = {};
   let dt: number | undefined;
   for (const [name, v] of Object.entries(setting)) {
     if (name === 'dt') dt = v;
     else params[name] = v;
   }
-  const run = createRun(scheme, { image: task.image, fieldImages: task.fieldImages ?? null, params, dt, steps: task.steps, dtype: task.dtype ?? 'float32' });
+  return createRun(scheme, { image: task.image, fieldImages: task.fieldImages ?? null, params, dt, steps: task.steps, dtype: task.dtype ?? 'float32', ...extra });
+}
+
+/** Runs one setting and returns the metric curve over every step (step 0 is the noisy input itself). */
+export function evaluateSetting(scheme: CheckedScheme, task: EvaluationTask, setting: Setting): Curve {
+  const run = runOf(scheme, task, setting);
   const k = pictureField(scheme);
   const measure = metricAgainst(referenceFor(scheme, task.reference), task.metric);
   const values = new Float64Array(task.steps + 1).fill(Number.NaN);
@@ -105,15 +110,9 @@ export function evaluateSetting(scheme: CheckedScheme, task: EvaluationTask, set
  * (copied when a new best appears), so the derivative needs no second run.
  */
 export function evaluateSettingWithGradient(scheme: CheckedScheme, task: EvaluationTask, setting: Setting, names: readonly string[]): Curve {
-  const params: Record<string, number> = {};
-  let dt: number | undefined;
-  for (const [name, v] of Object.entries(setting)) {
-    if (name === 'dt') dt = v;
-    else params[name] = v;
-  }
   // No new-extremum monitor: an evaluation reads no warnings (a blow-up stops it either way), so the static analysis
   // that decides the monitor would be spent for nothing on every evaluation.
-  const run = createRun(scheme, { image: task.image, params, dt, steps: task.steps, dtype: task.dtype ?? 'float32', sensitivity: names, monitors: { extremumCheck: false } });
+  const run = runOf(scheme, task, setting, { sensitivity: names, monitors: { extremumCheck: false } });
   const k = pictureField(scheme);
   const reference = referenceFor(scheme, task.reference);
   const measure = metricAgainst(reference, task.metric);

@@ -32,4 +32,16 @@ describe('evaluateSettingWithGradient', () => {
       });
     });
   }
+  it('reads every image field\'s own picture, as a plain evaluation does (a named mask input)', () => {
+    const masked = parseAndCheck(readFileSync(join(__dirname, '../../../examples/masked-smoothing.fluxel'), 'utf8')).scheme!;
+    // Keep the left half (mask 1), smooth the right half (mask 0).
+    const mask = { width: 32, height: 30, data: Float32Array.from({ length: 32 * 30 }, (_, i) => (i % 32 < 16 ? 1 : 0)) };
+    const task = { image: scene.noisy, fieldImages: { m: mask }, reference: scene.clean, steps: 12, metric: 'psnr' as const, dtype: 'float64' as const };
+    const c = evaluateSettingWithGradient(masked, task, { dt: 0.2 }, ['dt']);
+    const plain = evaluateSetting(masked, task, { dt: 0.2 });
+    expect(c.bestStep).toBe(plain.bestStep);
+    for (let s = 0; s < plain.values.length; s++) expect(Math.abs(c.values[s] - plain.values[s])).toBeLessThan(1e-10);
+    // Without the mask the same scheme reads it from nowhere: the engine refuses rather than guessing.
+    expect(() => evaluateSettingWithGradient(masked, { ...task, fieldImages: undefined }, { dt: 0.2 }, ['dt'])).toThrow(/no picture was given/);
+  });
 });
