@@ -53,6 +53,17 @@ export class Emitter {
   popScope(): void {
     this.memo.pop();
   }
+  /** Runs `lower` into a block of its own (an if branch, in its own scope) and gives its value and statements. */
+  block<T>(lower: () => T): { value: T; lines: string[] } {
+    const outer = this.lines;
+    this.lines = [];
+    this.pushScope();
+    const value = lower();
+    this.popScope();
+    const lines = this.lines;
+    this.lines = outer;
+    return { value, lines };
+  }
   /** The generated name of the index offset dx + dy·pw, declared once at the top of the kernel. */
   offset(o: Offset): string {
     const key = o.join(',');
@@ -260,18 +271,9 @@ class Lowering {
       case 'if': {
         const c = this.bind(this.lower(e.cond, env));
         // Branches are evaluated lazily: their statements go inside the if/else blocks.
+        const { value: a, lines: thenLines } = this.em.block(() => this.lower(e.then, env));
+        const { value: b, lines: elseLines } = this.em.block(() => this.lower(e.otherwise, env));
         const outer = this.em.lines;
-        this.em.lines = [];
-        this.em.pushScope();
-        const a = this.lower(e.then, env);
-        this.em.popScope();
-        const thenLines = this.em.lines;
-        this.em.lines = [];
-        this.em.pushScope();
-        const b = this.lower(e.otherwise, env);
-        this.em.popScope();
-        const elseLines = this.em.lines;
-        this.em.lines = outer;
         if (thenLines.length === 0 && elseLines.length === 0) return `(${c} !== 0 ? ${a} : ${b})`;
         const t = this.em.temp();
         outer.push(`let ${t};`, `if (${c} !== 0) {`, ...thenLines, `${t} = ${a};`, '} else {', ...elseLines, `${t} = ${b};`, '}');

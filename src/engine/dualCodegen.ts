@@ -159,18 +159,9 @@ class DualLowering {
       case 'binary': return this.binary(e, env);
       case 'if': {
         const c = this.bind(this.lower(e.cond, env).v);
+        const { value: a, lines: thenLines } = this.em.block(() => this.lower(e.then, env));
+        const { value: b, lines: elseLines } = this.em.block(() => this.lower(e.otherwise, env));
         const outer = this.em.lines;
-        this.em.lines = [];
-        this.em.pushScope();
-        const a = this.lower(e.then, env);
-        this.em.popScope();
-        const thenLines = this.em.lines;
-        this.em.lines = [];
-        this.em.pushScope();
-        const b = this.lower(e.otherwise, env);
-        this.em.popScope();
-        const elseLines = this.em.lines;
-        this.em.lines = outer;
         const d = this.zeros();
         const tv = this.em.temp();
         const td = a.d.map((s, j) => (s === null && b.d[j] === null ? null : `${tv}_${j}`));
