@@ -11,7 +11,7 @@ import { encodeModule, type FnBody } from './emit';
 import { letGraph, Unsupported, updateGraph, type KernelGraph } from './ir';
 import {
   BLOCK_ABORT_AT, BLOCK_ABORTED, BLOCK_CTL_BYTES, BLOCK_MAX_PASSES, blockLimitBytes, BUFFERS_AT, checkVectorisable, emitBlock, emitKernel, emitTwoStep, IMPORTS, MAX_FIELDS, MAX_PARAMS,
-  MONITOR_AT, MONITOR_BYTES, PARAMS_AT, planTableBytes, rowFluxBytes, twoStepSlotBytes, type BufId,
+  MONITOR_AT, MONITOR_BYTES, PARAMS_AT, planTableBytes, QUIET_AT, rowFluxBytes, twoStepSlotBytes, type BufId,
 } from './kernel';
 import { wasmApi, type WasmMemory, type WasmModule } from './wasmApi';
 import { coreCount, getHelper, preload, runningHelper, runShared, runWhole } from './threads';
@@ -57,6 +57,8 @@ class Arena {
   readonly planTables = new Map<object, number>();
   readonly instances = new Map<string, { module: WasmModule; names: string[]; fns: ((...a: number[]) => void)[] }>();
   readonly prepared = new Map<object, { g: Geometry; inst: Prepared }>();
+  /** Set when the quiet check refused a pass the full monitors found quiet: this run's passes use those from then on. */
+  quietOff = false;
   constructor(readonly g: Geometry, readonly dtype: DType, count: number, readonly threads: number, stores: number) {
     const bytes = dtype === 'float32' ? 4 : 8;
     const size = align16(g.pw * g.ph * bytes);
@@ -216,6 +218,17 @@ class WasmCompiled implements CompiledScheme {
         bufs.push([...u.bufs]);
         funcs.push({ name: 'tb', body: emitBlock(this.plan.update, u.bufs, this.dtype, { ...geo, ph: g.ph, rows }, funcs.length - 1) });
         bufs.push([...u.bufs]);
+        // Float32: the same passes with the quiet check instead of the min/max monitors (writeQuietCheck), for
+        // ranges from 0 (tbz) and others (tbq).
+        for (const [mode, tag] of this.dtype === 'float32' ? ([['quiet-from-zero', 'z'], ['quiet', 'q']] as const) : []) {
+          const q = emitKernel(this.plan.update, this.dtype, geo, 'd', mode);
+          funcs.push({ name: `u${tag}`, body: q.body });
+          bufs.push([...q.bufs]);
+          funcs.push({ name: `t2${tag}`, body: emitTwoStep(this.plan.update, q.bufs, this.dtype, { ...geo, ph: g.ph, rows }, funcs.length - 1) });
+          bufs.push([...q.bufs]);
+          funcs.push({ name: `tb${tag}`, body: emitBlock(this.plan.update, q.bufs, this.dtype, { ...geo, ph: g.ph, rows }, funcs.length - 1, true) });
+          bufs.push([...q.bufs]);
+        }
       }
       const bytes = encodeModule({ imports: IMPORTS.map(name => ({ name, params: name === 'pow' ? [0x7c, 0x7c] : [0x7c], results: [0x7c] })), memory: { min: 1, max: 65536 }, funcs });
       m = { module: new (api().Module)(bytes), names: funcs.map(f => f.name), bufs };
@@ -328,10 +341,48 @@ class WasmCompiled implements CompiledScheme {
       tables.push(at);
     }
     const inst = this.instance(arena, g);
-    const fn = inst.names.indexOf('tb');
-    if (fn < 0) return -1;
     const n = Math.max(1, Math.min(BLOCK_MAX_PASSES, Math.floor(passes)));
     this.writeRunValues(arena, ctx);
+    // The quiet check where the limits allow it and it has not raised a false alarm in this run.
+    const quiet = !arena.quietOff && inst.names.includes('tbq') ? this.writeQuietCheck(arena, limits) : null;
+    const first = this.runBlock(arena, g, ctx, inst, quiet ?? 'tb', n, 0, limits, tables);
+    if (!quiet || first < 0 || first >= n) return first;
+    // The quiet check is stricter than the limits (values in [lo, 0) fail it): the full monitors decide the pass it
+    // refused and, when they find it quiet, take over for the rest of the run.
+    const rest = this.runBlock(arena, g, ctx, inst, 'tb', n - first, first, limits, tables);
+    if (rest > 0) arena.quietOff = true;
+    return first + rest;
+  }
+
+  /**
+   * Writes the quiet check's (O, R) per stored field (kernel.ts, QUIET_AT) when every field's limits allow one:
+   * hi at least 0 and lo at least a millionth of the range below 0 (the slack below an initial minimum of 0). The
+   * check then accepts [max(lo, 0), hi] rounded inwards to Float32, a subset of what checkMonitors accepts.
+   * Returns the block driver to use ('tbz' when every O is 0), or null.
+   */
+  private writeQuietCheck(arena: Arena, limits: StepLimits): 'tbz' | 'tbq' | null {
+    const words = new Int32Array(arena.memory.buffer, QUIET_AT, 2 * MAX_FIELDS);
+    let zero = true;
+    for (const s of this.plan.update.stores) {
+      const lo = limits.lo[s.field], hi = limits.hi[s.field];
+      if (!(hi >= 0) || !(lo >= -1e-6 * (hi - lo))) return null;
+      const o = f32BitsAtLeast(Math.max(lo, 0)), top = f32BitsAtMost(hi);
+      if (top < o) return null;
+      words[2 * s.field] = o;
+      words[2 * s.field + 1] = top - o;
+      zero &&= o === 0;
+    }
+    return zero ? 'tbz' : 'tbq';
+  }
+
+  /**
+   * One block call of `n` passes from pass `from` (its parity says which buffers hold the fields), on this thread
+   * or shared with the helper. Returns the quiet passes, or -1 when the block driver is not in the module.
+   */
+  private runBlock(arena: Arena, g: Geometry, ctx: KernelContext, inst: Prepared, name: string, n: number, from: number, limits: StepLimits, tables: readonly number[]): number {
+    const fn = inst.names.indexOf(name);
+    if (fn < 0) return -1;
+    const stores = this.plan.update.stores;
     const lim = new Float64Array(arena.memory.buffer, arena.lim, 2 * stores.length);
     stores.forEach((s, j) => {
       lim[2 * j] = limits.lo[s.field];
@@ -346,9 +397,11 @@ class WasmCompiled implements CompiledScheme {
       words[4 * p + 2] = 1;
     }
     words.fill(0, 4 * BLOCK_MAX_PASSES);
-    const even = this.bufArgs(inst.bufs[fn], ctx);
+    const cur = this.bufArgs(inst.bufs[fn], ctx);
     const updated = new Set(stores.map(s => s.field));
-    const odd = inst.bufs[fn].map((b, k) => (!updated.has(b.index) || b.kind === 'l' ? even[k] : (b.kind === 'c' ? ctx.next : ctx.cur)[b.index].byteOffset));
+    const swapped = inst.bufs[fn].map((b, k) => (!updated.has(b.index) || b.kind === 'l' ? cur[k] : (b.kind === 'c' ? ctx.next : ctx.cur)[b.index].byteOffset));
+    // After an odd number of passes the fields are in the next buffers.
+    const [even, odd] = from % 2 === 0 ? [cur, swapped] : [swapped, cur];
     const args = [...even, ...odd, ...tables, 0, g.width, n, arena.ctl, arena.lim];
     const call = inst.fns[fn] as unknown as (...a: number[]) => number;
     const mine = { mon: MONITOR_AT, scratch: arena.scratch[0] };
@@ -365,6 +418,18 @@ class WasmCompiled implements CompiledScheme {
     this.threadsUsed = 2;
     return r.result;
   }
+}
+
+const bitsF32 = new Float32Array(1), bitsI32 = new Int32Array(bitsF32.buffer);
+/** The bits of the least Float32 >= x (x >= 0, finite or not). */
+function f32BitsAtLeast(x: number): number {
+  bitsF32[0] = x;
+  return bitsF32[0] < x ? bitsI32[0] + 1 : bitsI32[0];
+}
+/** The bits of the greatest finite Float32 <= x (x >= 0). */
+function f32BitsAtMost(x: number): number {
+  bitsF32[0] = Math.min(x, 3.4028234663852886e38);
+  return bitsF32[0] > x ? bitsI32[0] - 1 : bitsI32[0];
 }
 
 /** Modules are compiled per padded geometry (row stride and halo are baked into the code). */

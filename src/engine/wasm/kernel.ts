@@ -15,6 +15,12 @@ export const MONITOR_AT = 4096;
 export const MAX_FIELDS = 64;
 export const MONITOR_BYTES = MAX_FIELDS * 16;
 export const MAX_THREADS = 4;
+/**
+ * Per field: the i32 pair (offset O, range R) of the quiet check (emitKernel with monitors 'quiet'): a Float32 value
+ * v passes when bits(v) - O <= R as unsigned, i.e. v in [lo, hi] for the non-negative Float32 lo (bits O) and hi
+ * (bits O + R). Written by the backend before a block call; after the run values, before the monitors.
+ */
+export const QUIET_AT = 3072;
 /** Buffers start after this (plus a halo's worth of bytes, so that base + relative offsets never go below 0). */
 export const BUFFERS_AT = MONITOR_AT + MAX_THREADS * MONITOR_BYTES;
 
@@ -106,8 +112,19 @@ function reachable(kg: KernelGraph): { variant: Node[]; scalar: Node[]; frontier
  * recomputes and rewrites the same values, so x1 - x0 must be at least the lane count), stores = graph values.
  * `target` says where stores go: the next field buffers (update) or the let buffer.
  */
-export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, target: 'd' | 'l', monitors: boolean): EmittedKernel {
+/**
+ * Monitors: true merges each stored field's (min, max) into the monitor slots as f64 (what single steps report);
+ * 'quiet' (Float32 only) merges one i32x4 per field into the slot, the lane-wise unsigned max of bits(v) - O (O from
+ * QUIET_AT): all the block driver needs to tell a quiet pass, in two integer operations per vector instead of three.
+ * 'quiet-from-zero' is the same check for O = 0 (the range [+0, hi]): one operation per vector.
+ */
+export type KernelMonitors = boolean | 'quiet' | 'quiet-from-zero';
+
+export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, target: 'd' | 'l', monitorMode: KernelMonitors): EmittedKernel {
   checkVectorisable(kg, dtype);
+  const quiet = monitorMode === 'quiet' || monitorMode === 'quiet-from-zero', fromZero = monitorMode === 'quiet-from-zero';
+  if (quiet && dtype !== 'float32') throw new Error('the quiet check is for Float32 kernels');
+  const monitors = monitorMode === true;
   const f32 = dtype === 'float32';
   const T = f32 ? F32_LANES : F64_LANES;
   const L = f32 ? 4 : 2, bytes = f32 ? 4 : 8, shift = f32 ? 2 : 3, align = f32 ? 2 : 3;
@@ -229,6 +246,9 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   const INTMON = f32;
   const mnU = monitors && INTMON ? kg.stores.map(() => fb.local(V128)) : [];
   const mxU = monitors && INTMON ? kg.stores.map(() => fb.local(V128)) : [];
+  /** The quiet check: per store, its accumulator and its offset O splatted. */
+  const qAcc = quiet ? kg.stores.map(() => fb.local(V128)) : [];
+  const qOff = quiet && !fromZero ? kg.stores.map(() => fb.local(V128)) : [];
   const sv = fb.local(V128), rowAt = fb.local(I32);
   const usesY = variant.some(n => n.op === 'y');
   const yv = usesY ? fb.local(V128) : -1;
@@ -376,6 +396,11 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
     constV(-Infinity); fb.set(mx[k]);
     constV(0); fb.set(nan[k]);
   }
+  kg.stores.forEach((s, k) => {
+    if (!quiet) return;
+    fb.v128c(i32s(0), 'i32').set(qAcc[k]);
+    if (!fromZero) fb.i32c(0).mem(Op.i32Load, 2, QUIET_AT + 8 * s.field).simd(Simd.i32x4Splat).set(qOff[k]);
+  });
   fb.get(Y0).set(y);
   fb.get(X1).i32c(L).op(Op.i32Sub).set(xlast);
   const pixels = (copies: number): void => {
@@ -388,7 +413,11 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
         emit(s.node);
         fb.set(sv);
         fb.get(addr[storeBufs[k]]).get(sv).mem(Simd.store, align, (geo.hy * geo.pw + geo.hx + copy * L) * bytes, true);
-        if (monitors && INTMON) {
+        if (fromZero) {
+          fb.get(qAcc[k]).get(sv).simd(Simd.i32x4MaxU).set(qAcc[k]);
+        } else if (quiet) {
+          fb.get(qAcc[k]).get(sv).get(qOff[k]).simd(Simd.i32x4Sub).simd(Simd.i32x4MaxU).set(qAcc[k]);
+        } else if (monitors && INTMON) {
           fb.get(mx[k]).get(sv).simd(Simd.i32x4MaxS).set(mx[k]);
           fb.get(mnU[k]).get(sv).simd(Simd.i32x4MinU).set(mnU[k]);
           fb.get(mxU[k]).get(sv).simd(Simd.i32x4MaxU).set(mxU[k]);
@@ -477,6 +506,11 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   fb.op(Op.end); // block: an empty band still reports its (empty) monitors
   // Monitors: reduce the lanes and merge (min, max) as Float64 into the monitor slot; the Float32 accumulators
   // mean something only when the band held a value.
+  // The quiet check: merged lane-wise into the slot (an empty band merges zeros, which pass).
+  kg.stores.forEach((s, k) => {
+    if (!quiet) return;
+    fb.get(MON).get(MON).mem(Simd.load, 4, 16 * s.field, true).get(qAcc[k]).simd(Simd.i32x4MaxU).mem(Simd.store, 4, 16 * s.field, true);
+  });
   if (monitors && INTMON) fb.get(Y0).get(Y1).op(Op.i32LtS, Op.if, VOID);
   kg.stores.forEach((s, k) => {
     if (!monitors) return;
@@ -635,7 +669,7 @@ const BLOCK_SPINS = 1 << 21;
  * the abort word was set while this thread waited (the other thread failed).
  * Params: even[nb], odd[nb], tables[ns], x0, x1, passes, ctl, lim, thread, cap, mon, scratch.
  */
-export function emitBlock(kg: KernelGraph, bufs: readonly BufId[], dtype: DType, geo: TwoStepGeometry, twoStepFn: number): FnBody {
+export function emitBlock(kg: KernelGraph, bufs: readonly BufId[], dtype: DType, geo: TwoStepGeometry, twoStepFn: number, quiet = false): FnBody {
   const nb = bufs.length, ns = kg.stores.length;
   const H = geo.ph - 2 * geo.hy, rows = geo.rows, chunks = Math.ceil(H / rows);
   const fb = new FnBody([...Array(2 * nb + ns + 9)].map((): ValType => I32), [I32]);
@@ -660,6 +694,10 @@ export function emitBlock(kg: KernelGraph, bufs: readonly BufId[], dtype: DType,
   // This thread's monitor slots of both steps start empty.
   for (const s of kg.stores) {
     for (const off of [0, 2 * MONITOR_BYTES]) {
+      if (quiet) {
+        fb.get(MON).v128c([0, 0, 0, 0], 'i32').mem(Simd.store, 4, off + 16 * s.field, true);
+        continue;
+      }
       fb.get(MON).f64c(Infinity).mem(Op.f64Store, 3, off + 16 * s.field);
       fb.get(MON).f64c(-Infinity).mem(Op.f64Store, 3, off + 16 * s.field + 8);
     }
@@ -688,10 +726,18 @@ export function emitBlock(kg: KernelGraph, bufs: readonly BufId[], dtype: DType,
   fb.get(n).i32c(1).op(Op.i32Add).set(n);
   fb.op(Op.br).code.u32(0);
   fb.op(Op.end, Op.end);
-  // quiet: every stored field's min >= lo and max <= hi in both steps (NaN compares false)
+  // quiet: every stored field's min >= lo and max <= hi in both steps (NaN compares false); with the quiet check,
+  // every lane of the slot <= R as unsigned
   fb.i32c(1).set(q);
   kg.stores.forEach((s, j) => {
     for (const off of [0, 2 * MONITOR_BYTES]) {
+      if (quiet) {
+        for (let lane = 0; lane < 4; lane++) {
+          fb.get(q).get(MON).mem(Op.i32Load, 2, off + 16 * s.field + 4 * lane);
+          fb.i32c(0).mem(Op.i32Load, 2, QUIET_AT + 8 * s.field + 4).op(Op.i32LeU, Op.i32And).set(q);
+        }
+        continue;
+      }
       fb.get(q);
       fb.get(MON).mem(Op.f64Load, 3, off + 16 * s.field).get(LIM).mem(Op.f64Load, 3, 16 * j).op(Op.f64Ge, Op.i32And);
       fb.get(MON).mem(Op.f64Load, 3, off + 16 * s.field + 8).get(LIM).mem(Op.f64Load, 3, 16 * j + 8).op(Op.f64Le, Op.i32And);

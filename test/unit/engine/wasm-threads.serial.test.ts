@@ -55,6 +55,24 @@ describe('two threads equal one, bitwise', () => {
     });
   }
 
+  it('the quiet check on both threads: a pass it refuses but the limits allow is retaken with the min/max monitors', () => {
+    // Upwind transport to the right (an extremum-monitored scheme) whose left half sits at -1e-10: inside the
+    // limits, below the quiet check's 0. The first block call switches to the monitors; nothing else changes.
+    const s = schemeOf(`grid 2d\nboundary reflect\nstep dt = 0.5\nsteps 300\nfield u = image\nu' = u - dt * (u - u[-1,0])\n`);
+    const image = randomImage(64, 40, 5);
+    for (let y = 0; y < 40; y++) for (let x = 0; x < 32; x++) image.data[y * 64 + x] = -1e-10;
+    const a = createRun(s, { image, backend: one }), b = createRun(s, { image, backend: two });
+    const spy = vi.spyOn(two.compile(s, { dtype: 'float32' }), 'runBlock' as never) as unknown as { mock: { calls: unknown[][] }; mockRestore(): void };
+    const ra = a.runSync(), rb = b.runSync();
+    const drivers = spy.mock.calls.map(c => c[4]);
+    spy.mockRestore();
+    expect(drivers.slice(0, 2)).toEqual(['tbz', 'tb']);
+    expect(drivers.slice(2).every(d => d === 'tb')).toBe(true);
+    expect(rb.backend).toMatch(/2 threads/);
+    expectClose(b.fieldData(0), a.fieldData(0), 0, 'two threads vs one');
+    expect(rb.warnings).toEqual([]);
+    expect(ra.warnings).toEqual([]);
+  });
   it('a blow-up in the second band is found at the same step and pixel', () => {
     const s = schemeOf(`grid 2d\nboundary reflect\nstep dt = 1\nsteps 10\nfield u = image\nu' = if y > 40 then u * 1e9 else u\n`);
     const image = randomImage(24, 48, 3);

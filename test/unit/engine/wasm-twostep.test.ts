@@ -20,13 +20,16 @@ const example = (name: string) => readFileSync(join(__dirname, '../../../example
 const PM = `grid 2d\nboundary reflect\nparam K = 0.05 in [0, 1]\nstep dt = 0.2\nsteps 13\nfield u = image\n` +
   `diffusivity g(s) = 1 / (1 + s^2 / K^2)\nu' = u + dt * sum n in N4: g(u[n] - u) * (u[n] - u)\n`;
 
-function compare(text: string, w: number, h: number, opts: { steps?: number; every?: number; dtype?: DType } = {}) {
+function compare(text: string, w: number, h: number, opts: { steps?: number; every?: number; dtype?: DType; image?: { width: number; height: number; data: Float64Array } } = {}) {
   const s = schemeOf(text);
-  const image = s.fields.some(f => f.init.kind === 'image') ? randomImage(w, h, 5) : null;
+  const image = opts.image ?? (s.fields.some(f => f.init.kind === 'image') ? randomImage(w, h, 5) : null);
   const common = { image, width: w, height: h, steps: opts.steps, every: opts.every, dtype: opts.dtype };
   // The compiled scheme is cached per backend: the run below uses this very object.
   const compiled = paired.compile(s, { dtype: opts.dtype ?? 'float32' });
   const spy = vi.spyOn(compiled, 'updatePasses' as never) as unknown as { mock: { calls: unknown[][]; results: { value: unknown }[] }; mockRestore(): void };
+  // Which block driver each call used ('tbz', 'tbq': the quiet check from 0 or from lo > 0; 'tb': the min/max
+  // monitors), what it returned and how many passes it was asked for.
+  const blocks = vi.spyOn(compiled, 'runBlock' as never) as unknown as { mock: { calls: unknown[][]; results: { value: unknown }[] }; mockRestore(): void };
   const a = createRun(s, { ...common, backend: paired }), b = createRun(s, { ...common, backend: single });
   const progress: number[] = [];
   const ra = a.runSync({ onProgress: k => progress.push(k) }), rb = b.runSync();
@@ -47,7 +50,9 @@ function compare(text: string, w: number, h: number, opts: { steps?: number; eve
   // Calls asked for more than one pass once the first call's time was known.
   const longest = Math.max(0, ...spy.mock.calls.map(c => c[2] as number));
   spy.mockRestore();
-  return { s, a, ra, common, passes, longest, calls: done.length };
+  const drivers = blocks.mock.calls.map((c, k) => `${c[4] as string}:${blocks.mock.results[k].value as number}/${c[5] as number}`);
+  blocks.mockRestore();
+  return { s, a, ra, common, passes, longest, calls: done.length, drivers };
 }
 
 describe('two steps per pass equal single steps, bitwise', () => {
@@ -101,6 +106,43 @@ describe('two steps per pass equal single steps, bitwise', () => {
     expect(ra.warnings[1].step).toBeGreaterThan(6000);
     expect(longest).toBeGreaterThan(1);
     expect(passes).toBeGreaterThan(4000);
+  });
+  it('Float32 data in [0, 1]: the passes use the quiet check, and a pass it refuses is decided by the min/max monitors', () => {
+    // Every call of this run starts with the quiet check and none is refused (no warning).
+    const pm = compare(PM, 24, 40, { steps: 200, every: 50 });
+    expect(pm.drivers.length).toBeGreaterThan(0);
+    expect(pm.drivers.every(d => /^tb[qz]:/.test(d))).toBe(true);
+    // A blow-up in the first pass: refused by the quiet check, confirmed by the monitors, found by single steps.
+    const blow = compare(`grid 2d\nboundary reflect\nparam K = 0.05 in [0, 1]\nstep dt = 1\nsteps 10\nfield u = image\nu' = if y > 40 then u * 1e9 else u\n`, 24, 48);
+    expect(blow.drivers[0]).toMatch(/^tb[qz]:0\/4$/);
+    expect(blow.drivers[1]).toBe('tb:0/4');
+    expect(blow.ra.status).toBe('blow-up');
+  });
+  it('data away from 0: the quiet check from the lower limit serves the passes and refuses the first new extremum', () => {
+    const lifted = (w: number, h: number) => {
+      const im = randomImage(w, h, 11);
+      for (let i = 0; i < im.data.length; i++) im.data[i] = 0.25 + 0.5 * im.data[i];
+      return im;
+    };
+    const pm = compare(PM, 24, 40, { steps: 200, every: 50, image: lifted(24, 40) });
+    expect(pm.drivers.length).toBeGreaterThan(0);
+    expect(pm.drivers.every(d => d.startsWith('tbq:'))).toBe(true);
+    // Heat beyond its positivity limit: the first pass leaves the initial range; found at the same step and pixel.
+    const hot = compare(example('heat-2d').replace(/step dt = [0-9.]+/, 'step dt = 0.3'), 40, 40, { steps: 60, image: lifted(40, 40) });
+    expect(hot.drivers[0]).toMatch(/^tbq:0\/\d+$/);
+    expect(hot.ra.warnings.map(w => w.kind)).toContain('new-extremum');
+  });
+  it('values in [lo, 0) pass the limits but not the quiet check: the min/max monitors take that pass and the rest of the run', () => {
+    // Upwind transport to the right (weights 1/2, 1/2: an extremum-monitored scheme); the left half starts at
+    // -1e-10, inside the limits (the initial range) but below the quiet check's 0, and stays there.
+    const w = 32, h = 24, image = randomImage(w, h, 9);
+    for (let y = 0; y < h; y++) for (let x = 0; x < w / 2; x++) image.data[y * w + x] = -1e-10;
+    const r = compare(`grid 2d\nboundary reflect\nstep dt = 0.5\nsteps 40\nfield u = image\nu' = u - dt * (u - u[-1,0])\n`, w, h, { image });
+    expect(r.ra.warnings).toEqual([]);
+    expect(r.drivers[0]).toMatch(/^tbz:0\/\d+$/);
+    expect(r.drivers[1]).toMatch(/^tb:(\d+)\/\1$/);
+    expect(r.drivers.slice(1).every(d => d.startsWith('tb:'))).toBe(true);
+    expect(r.passes).toBeGreaterThan(15);
   });
   it('a cancel is asked between calls and ends the run at the last step of a call, as single steps to there', () => {
     const s = schemeOf(PM);
