@@ -27,6 +27,8 @@ export interface WasmOptions {
   readonly reuseFluxes?: boolean;
   /** Two steps per pass where the run allows (default); off only to check it changes nothing. */
   readonly twoStep?: boolean;
+  /** Rows in pairs where the kernel allows (default, kernel.ts); off only to check it changes nothing. */
+  readonly rowPairs?: boolean;
 }
 
 const MATH_IMPORTS = { exp: Math.exp, log: Math.log, sin: Math.sin, cos: Math.cos, tanh: Math.tanh, sign: Math.sign, pow: Math.pow };
@@ -201,14 +203,15 @@ class WasmCompiled implements CompiledScheme {
     let m = this.modules.get(key);
     if (!m) {
       const geo = { pw: g.pw, hx: g.haloX, hy: g.haloY };
+      const pairs = this.opts.rowPairs !== false;
       const funcs: { name: string; body: FnBody }[] = [];
       const bufs: BufId[][] = [];
-      const u = emitKernel(this.plan.update, this.dtype, geo, 'd', true);
+      const u = emitKernel(this.plan.update, this.dtype, geo, 'd', true, pairs);
       funcs.push({ name: 'u', body: u.body });
       bufs.push([...u.bufs]);
       this.plan.lets.forEach((lg, k) => {
         if (!lg) return;
-        const e = emitKernel(lg, this.dtype, geo, 'l', false);
+        const e = emitKernel(lg, this.dtype, geo, 'l', false, pairs);
         funcs.push({ name: `l${k}`, body: e.body });
         bufs.push([...e.bufs]);
       });
@@ -221,7 +224,7 @@ class WasmCompiled implements CompiledScheme {
         // Float32: the same passes with the quiet check instead of the min/max monitors (writeQuietCheck), for
         // ranges from 0 (tbz) and others (tbq).
         for (const [mode, tag] of this.dtype === 'float32' ? ([['quiet-from-zero', 'z'], ['quiet', 'q']] as const) : []) {
-          const q = emitKernel(this.plan.update, this.dtype, geo, 'd', mode);
+          const q = emitKernel(this.plan.update, this.dtype, geo, 'd', mode, pairs);
           funcs.push({ name: `u${tag}`, body: q.body });
           bufs.push([...q.bufs]);
           funcs.push({ name: `t2${tag}`, body: emitTwoStep(this.plan.update, q.bufs, this.dtype, { ...geo, ph: g.ph, rows }, funcs.length - 1) });

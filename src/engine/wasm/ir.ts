@@ -23,7 +23,10 @@ export type NodeOp =
   | 'add' | 'sub' | 'mul' | 'div' | 'min' | 'max' | 'pow'
   | 'lt' | 'le' | 'gt' | 'ge' | 'eq' | 'ne'
   | 'and' | 'or' | 'not' | 'select' | 'num' | 'truth'
-  /** args [F, T]: the value T, which equals -F one pixel to the left (x) or one row up (y); see Graph.reuse. */
+  /**
+   * args [F, T]: the value T, which equals -F one pixel to the left (x) or one row up (y); see Graph.reuse. value 1:
+   * worth carrying to the next vector or row; 0 (y only): worth it only between the two rows of a pair (kernel.ts).
+   */
   | 'reusex' | 'reusey';
 
 /** Buffer a load reads: a current field (c) or a let (l). */
@@ -136,7 +139,8 @@ export class Graph {
    * Taking a flux from the vector before costs a shuffle (from the row above: a load and a store), and the sum
    * subtracts it instead of adding the term: worth it along x for any term (the shuffle runs beside the sums, which
    * keep the floating-point add ports busy: a 5-point heat kernel took 7% less time), along y only for a term with a
-   * division, square root or exp, or several other operations (a cheap term took 6% more time).
+   * division, square root or exp, or several other operations (a cheap term took 6% more time). A cheap term along
+   * y is still marked, for the kernels that take rows in pairs and hand the flux from one to the other in a register.
    */
   private worthReusing(id: number, axis: 'x' | 'y'): boolean {
     if (axis === 'x') return true;
@@ -160,13 +164,12 @@ export class Graph {
    * becomes a reuse node, so kernels compute each face's flux once. Returns the new term, or the old one.
    */
   reuse(forward: number, backward: number, axis: 'x' | 'y', line: number): number {
-    if (!this.worthReusing(backward, axis)) return backward;
     const back = this.shift(forward, axis === 'x' ? -1 : 0, axis === 'y' ? -1 : 0);
     if (back === null || this.nodes[forward].inv) return backward;
     const memo = new Map<number, [number, number]>();
     const [c1, s1] = this.canon(backward, memo), [c2, s2] = this.canon(back, memo);
     if (c1 !== c2 || s1 !== -s2) return backward;
-    return this.make(axis === 'x' ? 'reusex' : 'reusey', [forward, backward], line);
+    return this.make(axis === 'x' ? 'reusex' : 'reusey', [forward, backward], line, { value: this.worthReusing(backward, axis) ? 1 : 0 });
   }
 }
 

@@ -120,7 +120,7 @@ function reachable(kg: KernelGraph): { variant: Node[]; scalar: Node[]; frontier
  */
 export type KernelMonitors = boolean | 'quiet' | 'quiet-from-zero';
 
-export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, target: 'd' | 'l', monitorMode: KernelMonitors): EmittedKernel {
+export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, target: 'd' | 'l', monitorMode: KernelMonitors, rowPairs = true): EmittedKernel {
   checkVectorisable(kg, dtype);
   const quiet = monitorMode === 'quiet' || monitorMode === 'quiet-from-zero', fromZero = monitorMode === 'quiet-from-zero';
   if (quiet && dtype !== 'float32') throw new Error('the quiet check is for Float32 kernels');
@@ -211,17 +211,33 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   for (const s of kg.stores) uses.set(s.node, (uses.get(s.node) ?? 0) + 1);
   // Reused fluxes (ir.ts, Graph.reuse): the forward flux F of the vector before (x) or of the row above (y).
   const reuseX = variant.filter(n => n.op === 'reusex');
-  const reuseY = variant.filter(n => n.op === 'reusey').slice(0, MAX_ROW_FLUXES);
-  const carry = new Map<number, number>();
-  for (const n of reuseX) {
-    uses.set(n.args[0], (uses.get(n.args[0]) ?? 0) + 2);
-    if (!carry.has(n.args[0])) carry.set(n.args[0], fb.local(V128));
-  }
+  const reuseY = variant.filter(n => n.op === 'reusey' && n.value === 1).slice(0, MAX_ROW_FLUXES);
   const rowSlot = new Map<number, number>();
   for (const n of reuseY) {
     uses.set(n.args[0], (uses.get(n.args[0]) ?? 0) + 2);
     if (!rowSlot.has(n.args[0])) rowSlot.set(n.args[0], rowSlot.size);
   }
+  /**
+   * Rows in pairs: where no flux goes through the row buffer, rows y and y + 1 are computed together, vector by
+   * vector, and row y + 1 takes the vertical fluxes it shares with row y (every reusey node) from a register. A 5-point
+   * heat kernel then computes 7 instead of 8 differences per two vectors. A band's odd last row goes alone.
+   */
+  const PAIRS = rowPairs && rowSlot.size === 0 && variant.some(n => n.op === 'reusey');
+  const pairF = new Map<number, number>();
+  if (PAIRS) {
+    for (const n of variant) {
+      if (n.op !== 'reusey' || pairF.has(n.args[0])) continue;
+      uses.set(n.args[0], (uses.get(n.args[0]) ?? 0) + 2);
+      pairF.set(n.args[0], fb.local(V128));
+    }
+  }
+  /** Per row of a pair: the forward horizontal fluxes carried to the next vector. */
+  const carries = [new Map<number, number>(), new Map<number, number>()];
+  for (const n of reuseX) {
+    uses.set(n.args[0], (uses.get(n.args[0]) ?? 0) + 2);
+    for (const c of PAIRS ? carries : carries.slice(0, 1)) if (!c.has(n.args[0])) c.set(n.args[0], fb.local(V128));
+  }
+  const carry = carries[0];
   const rowStride = rowFluxStride(geo.pw, dtype);
   /** Emission modes: compute reused fluxes directly (row starts of a call, vectors at a row's clamped end). */
   let directX = true, directY = true;
@@ -256,6 +272,9 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   const done = new Set<number>();
   /** Which unrolled copy is being emitted: copy c works on the vector c·L pixels to the right. */
   let copy = 0;
+  /** Which row of a pair is being emitted (0 alone), and whether row 1 may read row 0's fluxes from registers. */
+  let r = 0, pairReads = false;
+  const yv1 = usesY && PAIRS ? fb.local(V128) : -1;
 
   const emit = (id: number): void => {
     const n = nodes[id];
@@ -268,7 +287,7 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
     switch (n.op) {
       case 'load': {
         const b = n.buf as { kind: 'c' | 'l'; index: number };
-        const imm = (((n.dy ?? 0) + geo.hy) * geo.pw + (n.dx ?? 0) + geo.hx + copy * L) * bytes;
+        const imm = (((n.dy ?? 0) + geo.hy + r) * geo.pw + (n.dx ?? 0) + geo.hx + copy * L) * bytes;
         fb.get(addr[bufIndex.get(b.kind + b.index) as number]).mem(Simd.load, align, imm, true);
         break;
       }
@@ -276,7 +295,7 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
         fb.get(x).simd(Simd.i32x4Splat).v128c((f32 ? [0, 1, 2, 3] : [0, 1, 0, 0]).map(v => v + copy * L), 'i32').simd(Simd.i32x4Add);
         fb.simd(f32 ? Simd.f32x4ConvertI32x4S : Simd.f64x2ConvertLowI32x4S);
         break;
-      case 'y': fb.get(yv); break;
+      case 'y': fb.get(r ? yv1 : yv); break;
       case 'neg': case 'abs': case 'sqrt': emit(a[0]); fb.simd(T[n.op]); break;
       case 'add': {
         // p + (-F) is p - F in IEEE arithmetic, bit for bit: a reused flux is subtracted, not negated and added.
@@ -330,8 +349,8 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   /** Whether a reuse node takes its flux from the vector or row before in the current emission mode. */
   function reusable(id: number): boolean {
     const n = nodes[id];
-    if (n.op === 'reusex') return !directX && carry.has(n.args[0]);
-    if (n.op === 'reusey') return !directY && rowSlot.has(n.args[0]);
+    if (n.op === 'reusex') return !directX && carries[r].has(n.args[0]);
+    if (n.op === 'reusey') return pairReads && r === 1 ? pairF.has(n.args[0]) : !directY && rowSlot.has(n.args[0]);
     return false;
   }
   /** A reuse node used once, not yet computed: its sum can subtract the flux F instead of adding -F. */
@@ -343,10 +362,12 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
     const n = nodes[id];
     if (n.op === 'reusex') {
       // Lanes x-1 .. x+L-2 of F: the last lane of the vector before, then the first L-1 lanes of this one.
-      fb.get(carry.get(n.args[0]) as number);
+      fb.get(carries[r].get(n.args[0]) as number);
       emit(n.args[0]);
       fb.simd(Simd.shuffle);
       for (let k = 0; k < 16; k++) fb.code.u8(16 - bytes + k);
+    } else if (pairReads && r === 1) {
+      fb.get(pairF.get(n.args[0]) as number);
     } else {
       fb.get(rowAt).mem(Simd.load, align, (rowSlot.get(n.args[0]) as number) * rowStride + copy * L * bytes, true);
     }
@@ -403,63 +424,82 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
   });
   fb.get(Y0).set(y);
   fb.get(X1).i32c(L).op(Op.i32Sub).set(xlast);
+  /** Rows per emitted row body: 2 for a pair (rows y and y + 1), else 1. */
+  let rowsNow = 1;
   const pixels = (copies: number): void => {
-    fb.get(y).i32c(geo.pw).op(Op.i32Mul).get(x).op(Op.i32Add).i32c(shift).op(Op.i32Shl).set(rel);
-    bufs.forEach((_, k) => fb.get(k).get(rel).op(Op.i32Add).set(addr[k]));
+    pixelsHeader();
     if (rowSlot.size) fb.get(ROWBUF).get(x).get(X0).op(Op.i32Sub).i32c(shift).op(Op.i32Shl, Op.i32Add).set(rowAt);
     for (copy = 0; copy < copies; copy++) {
-      done.clear();
-      kg.stores.forEach((s, k) => {
-        emit(s.node);
-        fb.set(sv);
-        fb.get(addr[storeBufs[k]]).get(sv).mem(Simd.store, align, (geo.hy * geo.pw + geo.hx + copy * L) * bytes, true);
-        if (fromZero) {
-          fb.get(qAcc[k]).get(sv).simd(Simd.i32x4MaxU).set(qAcc[k]);
-        } else if (quiet) {
-          fb.get(qAcc[k]).get(sv).get(qOff[k]).simd(Simd.i32x4Sub).simd(Simd.i32x4MaxU).set(qAcc[k]);
-        } else if (monitors && INTMON) {
-          fb.get(mx[k]).get(sv).simd(Simd.i32x4MaxS).set(mx[k]);
-          fb.get(mnU[k]).get(sv).simd(Simd.i32x4MinU).set(mnU[k]);
-          fb.get(mxU[k]).get(sv).simd(Simd.i32x4MaxU).set(mxU[k]);
-        } else if (monitors) {
-          // pmin/pmax are single instructions (min/max with NaN propagation are long sequences, and they sit on the
-          // loop-carried chain); NaN is tracked on its own lane mask instead.
-          fb.get(mn[k]).get(sv).simd(T.pmin).set(mn[k]);
-          fb.get(mx[k]).get(sv).simd(T.pmax).set(mx[k]);
-          fb.get(nan[k]).get(sv).get(sv).simd(T.ne).simd(Simd.or).set(nan[k]);
+      for (r = 0; r < rowsNow; r++) {
+        done.clear();
+        kg.stores.forEach((s, k) => {
+          emit(s.node);
+          fb.set(sv);
+          fb.get(addr[storeBufs[k]]).get(sv).mem(Simd.store, align, ((geo.hy + r) * geo.pw + geo.hx + copy * L) * bytes, true);
+          if (fromZero) {
+            fb.get(qAcc[k]).get(sv).simd(Simd.i32x4MaxU).set(qAcc[k]);
+          } else if (quiet) {
+            fb.get(qAcc[k]).get(sv).get(qOff[k]).simd(Simd.i32x4Sub).simd(Simd.i32x4MaxU).set(qAcc[k]);
+          } else if (monitors && INTMON) {
+            fb.get(mx[k]).get(sv).simd(Simd.i32x4MaxS).set(mx[k]);
+            fb.get(mnU[k]).get(sv).simd(Simd.i32x4MinU).set(mnU[k]);
+            fb.get(mxU[k]).get(sv).simd(Simd.i32x4MaxU).set(mxU[k]);
+          } else if (monitors) {
+            // pmin/pmax are single instructions (min/max with NaN propagation are long sequences, and they sit on the
+            // loop-carried chain); NaN is tracked on its own lane mask instead.
+            fb.get(mn[k]).get(sv).simd(T.pmin).set(mn[k]);
+            fb.get(mx[k]).get(sv).simd(T.pmax).set(mx[k]);
+            fb.get(nan[k]).get(sv).get(sv).simd(T.ne).simd(Simd.or).set(nan[k]);
+          }
+        });
+        // This vector's forward horizontal fluxes, for the next vector (after every reuse in this one read the old).
+        if (!directX) {
+          for (const [f, c] of carries[r]) {
+            emit(f);
+            fb.set(c);
+          }
         }
-      });
-      // This vector's forward horizontal fluxes, for the next vector (after every reuse in this one read the old).
-      if (!directX) {
-        for (const [f, c] of carry) {
+        // Row 0 of a pair: its forward vertical fluxes, for row 1 of the same vector.
+        if (rowsNow === 2 && r === 0) {
+          for (const [f, l] of pairF) {
+            emit(f);
+            fb.set(l);
+          }
+        }
+        // This row's forward vertical fluxes, for the next row (after this vector read the row above's).
+        for (const [f, slot] of rowSlot) {
+          fb.get(rowAt);
           emit(f);
-          fb.set(c);
+          fb.mem(Simd.store, align, slot * rowStride + copy * L * bytes, true);
         }
       }
-      // This row's forward vertical fluxes, for the next row (after this vector read the row above's).
-      for (const [f, slot] of rowSlot) {
-        fb.get(rowAt);
-        emit(f);
-        fb.mem(Simd.store, align, slot * rowStride + copy * L * bytes, true);
-      }
+      r = 0;
     }
     copy = 0;
   };
-  const row = (firstRow: boolean): void => {
+  const row = (firstRow: boolean, pair: boolean): void => {
+    rowsNow = pair ? 2 : 1;
+    pairReads = pair;
     if (usesY) {
       fb.get(y).simd(Simd.i32x4Splat).simd(f32 ? Simd.f32x4ConvertI32x4S : Simd.f64x2ConvertLowI32x4S).set(yv);
+      if (pair) fb.get(y).i32c(1).op(Op.i32Add).simd(Simd.i32x4Splat).simd(f32 ? Simd.f32x4ConvertI32x4S : Simd.f64x2ConvertLowI32x4S).set(yv1);
     }
     directX = true;
     directY = true;
     if (carry.size) {
-      // The forward horizontal fluxes of the L pixels before the row's first vector.
+      // The forward horizontal fluxes of the L pixels before the row's first vector (of each row of a pair).
       fb.get(X0).i32c(L).op(Op.i32Sub).set(x);
       pixelsHeader();
-      done.clear();
-      for (const [f, c] of carry) {
-        emit(f);
-        fb.set(c);
+      pairReads = false;
+      for (r = 0; r < rowsNow; r++) {
+        done.clear();
+        for (const [f, c] of carries[r]) {
+          emit(f);
+          fb.set(c);
+        }
       }
+      r = 0;
+      pairReads = pair;
     }
     fb.get(X0).set(x);
     // UNROLL vectors per iteration while they fit (less loop and address work per pixel)...
@@ -488,21 +528,36 @@ export function emitKernel(kg: KernelGraph, dtype: DType, geo: KernelGeometry, t
     fb.op(Op.end, Op.br).code.u32(0);
     fb.op(Op.end); // tail loop
     fb.op(Op.end); // tail block
-    fb.get(y).i32c(1).op(Op.i32Add).set(y);
+    fb.get(y).i32c(rowsNow).op(Op.i32Add).set(y);
+    rowsNow = 1;
+    pairReads = false;
   };
   function pixelsHeader(): void {
     fb.get(y).i32c(geo.pw).op(Op.i32Mul).get(x).op(Op.i32Add).i32c(shift).op(Op.i32Shl).set(rel);
     bufs.forEach((_, k) => fb.get(k).get(rel).op(Op.i32Add).set(addr[k]));
   }
-  // The first row of a call reads no row above from the row buffer; the other rows do.
   fb.op(Op.block, VOID);
-  fb.get(y).get(Y1).op(Op.i32GeS, Op.brIf).code.u32(0);
-  row(true);
-  fb.op(Op.loop, VOID);
-  fb.get(y).get(Y1).op(Op.i32GeS, Op.brIf).code.u32(1);
-  row(false);
-  fb.op(Op.br).code.u32(0);
-  fb.op(Op.end); // rows loop
+  if (PAIRS) {
+    // No row buffer: every row body is the same; pairs while two rows are left, then the odd last row.
+    fb.op(Op.loop, VOID);
+    fb.get(y).get(Y1).op(Op.i32GeS, Op.brIf).code.u32(1);
+    fb.get(y).i32c(1).op(Op.i32Add).get(Y1).op(Op.i32LtS, Op.if, VOID);
+    row(false, true);
+    fb.op(Op.else);
+    row(false, false);
+    fb.op(Op.end);
+    fb.op(Op.br).code.u32(0);
+    fb.op(Op.end); // rows loop
+  } else {
+    // The first row of a call reads no row above from the row buffer; the other rows do.
+    fb.get(y).get(Y1).op(Op.i32GeS, Op.brIf).code.u32(0);
+    row(true, false);
+    fb.op(Op.loop, VOID);
+    fb.get(y).get(Y1).op(Op.i32GeS, Op.brIf).code.u32(1);
+    row(false, false);
+    fb.op(Op.br).code.u32(0);
+    fb.op(Op.end); // rows loop
+  }
   fb.op(Op.end); // block: an empty band still reports its (empty) monitors
   // Monitors: reduce the lanes and merge (min, max) as Float64 into the monitor slot; the Float32 accumulators
   // mean something only when the band held a value.

@@ -115,7 +115,9 @@ describe('fluxes through shared faces are computed once', () => {
     ['edge-preserving (reused: g is even)', PM, 2],
     ['the bundled edge-preserving example (blurred diffusivity argument)', readFileSync(join(EXAMPLES, 'edge-preserving.fluxel'), 'utf8'), 2],
     ['tv-flow (reused: the face average of g(m) is symmetric)', readFileSync(join(EXAMPLES, 'tv-flow.fluxel'), 'utf8'), 2],
-    ['5-point heat (a cheap term: reused along x only, where a shuffle replaces a subtraction)', readFileSync(join(EXAMPLES, 'heat-2d.fluxel'), 'utf8'), 1],
+    // A cheap term: along x a shuffle replaces a subtraction; along y the flux goes from row to row of a pair only.
+    ['5-point heat (a cheap term, reused along x and within row pairs)', readFileSync(join(EXAMPLES, 'heat-2d.fluxel'), 'utf8'), 2],
+    ['5-point heat plus a term in y (row pairs: the second row\'s y)', `grid 2d\nboundary reflect\nstep dt = 0.2\nsteps 9\nfield u = image\nu' = u + dt * (sum n in N4: u[n] - u) + 0.001 * y\n`, 2],
     ['an odd diffusivity (not reused)', PM.replace('1 / (1 + s^2 / K^2)', '1 / (2 + s)'), 0],
     ['a term reading x (not reused)', PM.replace('g(u[n] - u) * (u[n] - u)', 'g(u[n] - u) * (u[n] - u) / (1 + 0.001 * x)'), 0],
   ];
@@ -132,6 +134,30 @@ describe('fluxes through shared faces are computed once', () => {
       expectClose(a.fieldData(0), b.fieldData(0), 0, `${what}: with and without reuse`);
       expectClose(a.fieldData(0), c.fieldData(0), 1e-6, `${what}: against JavaScript`);
     });
+  }
+});
+
+describe('rows in pairs (a cheap vertical flux handed from row to row in a register) change nothing', () => {
+  // Bitwise against the same kernels taking one row at a time, on heights that leave an odd last row in bands and
+  // chunks, with single steps and with passes, in Float32 and Float64.
+  const heat = readFileSync(join(EXAMPLES, 'heat-2d.fluxel'), 'utf8');
+  const withY = `grid 2d\nboundary reflect\nstep dt = 0.2\nsteps 9\nfield u = image\nu' = u + dt * (sum n in N4: u[n] - u) + 0.001 * y\n`;
+  const wide = `grid 2d\nboundary reflect\nstep dt = 0.05\nsteps 7\nfield u = image\nneighbours W = {[2,0], [-2,0], [0,2], [0,-2], [1,0], [-1,0], [0,1], [0,-1]}\nu' = u + dt * sum n in W: u[n] - u\n`;
+  for (const twoStep of [true, false]) {
+    const paired = new WasmBackend({ threads: 1, twoStep }), alone = new WasmBackend({ threads: 1, twoStep, rowPairs: false });
+    for (const [what, text] of [['heat-2d', heat], ['a term in y', withY], ['offsets of 1 and 2', wide]] as const) {
+      for (const dtype of ['float32', 'float64'] as DType[]) {
+        it(`${what}, ${dtype}, ${twoStep ? 'passes' : 'single steps'}`, () => {
+          const s = schemeOf(text);
+          for (const [w, h] of [[37, 1], [9, 3], [16, 7], [45, 38], [64, 61]]) {
+            const image = randomImage(w, h, w * h);
+            const a = createRun(s, { image, backend: paired, dtype, steps: 8 }), b = createRun(s, { image, backend: alone, dtype, steps: 8 });
+            a.runSync(); b.runSync();
+            expectClose(a.fieldData(0), b.fieldData(0), 0, `${what} ${w}×${h}`);
+          }
+        });
+      }
+    }
   }
 });
 
