@@ -21,6 +21,7 @@ export const MAX_THREADS = 4;
  * (bits O + R). Written by the backend before a block call; after the run values, before the monitors.
  */
 export const QUIET_AT = 3072;
+if (PARAMS_AT + 16 + 8 * MAX_PARAMS > QUIET_AT || QUIET_AT + 8 * MAX_FIELDS > MONITOR_AT) throw new Error('kernel memory layout overlaps');
 /** Buffers start after this (plus a halo's worth of bytes, so that base + relative offsets never go below 0). */
 export const BUFFERS_AT = MONITOR_AT + MAX_THREADS * MONITOR_BYTES;
 
