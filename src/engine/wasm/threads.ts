@@ -221,10 +221,7 @@ export function runShared(
   const chunks = Math.ceil((yb - ya) / rows);
   if (chunks > 0x7fff) throw new Error('too many chunks of rows for the helper thread');
   Atomics.store(m, CTR, chunks << 16);
-  Atomics.store(m, STATE, PENDING);
-  h.seq++;
-  Atomics.store(m, SEQ, h.seq);
-  Atomics.notify(m, SEQ);
+  publish(h);
   if (forceHelper) {
     // Test mode: this thread runs the first half itself and waits for the helper to run the rest.
     const half = chunks >> 1;
@@ -239,14 +236,9 @@ export function runShared(
     return 1;
   }
   // The helper is on its last chunk: a short spin, then sleep until it reports.
-  const until = t1 + 0.2;
-  while (Atomics.load(m, STATE) === RUNNING && performance.now() < until) { /* spin */ }
-  while (Atomics.load(m, STATE) === RUNNING) Atomics.wait(m, STATE, RUNNING, 1000);
+  awaitHelper(m, t1 + 0.2);
   noteHelper(h, performance.now() - t1 > t1 - t0, t1);
-  if (Atomics.load(m, ERROR) !== 0) {
-    Atomics.store(m, ERROR, 0);
-    throw new Error('the helper thread failed to run a kernel');
-  }
+  throwIfHelperFailed(m);
   return 2;
 }
 
@@ -289,10 +281,7 @@ export function runWhole(
   m[MON] = theirs.mon;
   m[SCRATCH] = theirs.scratch;
   m[ABORT] = abortAt;
-  Atomics.store(m, STATE, PENDING);
-  h.seq++;
-  Atomics.store(m, SEQ, h.seq);
-  Atomics.notify(m, SEQ);
+  publish(h);
   // Test mode: wait for the helper, then take at most half the chunks of each pass.
   if (forceHelper) while (Atomics.load(m, STATE) === PENDING) Atomics.wait(m, STATE, PENDING, 50);
   const t0 = performance.now();
@@ -313,23 +302,40 @@ export function runWhole(
     return { result, threads: 1 };
   }
   // The helper passes through what is left (the work is done): a short spin, then sleep until it reports.
-  const until = t1 + 1;
-  while (Atomics.load(m, STATE) === RUNNING && performance.now() < until) { /* spin */ }
-  while (Atomics.load(m, STATE) === RUNNING) Atomics.wait(m, STATE, RUNNING, 1000);
+  awaitHelper(m, t1 + 1);
   noteHelper(h, helperSlow(), t1);
   if (failure) throw failure;
-  if (Atomics.load(m, ERROR) !== 0) {
-    Atomics.store(m, ERROR, 0);
-    throw new Error('the helper thread failed to run a kernel');
-  }
+  throwIfHelperFailed(m);
   return { result, threads: 2 };
+}
+
+/** Makes the job written into the mailbox pending and wakes the helper for it. */
+function publish(h: Helper): void {
+  const m = h.mail;
+  Atomics.store(m, STATE, PENDING);
+  h.seq++;
+  Atomics.store(m, SEQ, h.seq);
+  Atomics.notify(m, SEQ);
+}
+
+/** Waits until the helper has finished its job: spinning until `spinUntil` (performance.now()), then sleeping. */
+function awaitHelper(m: Int32Array, spinUntil: number): void {
+  while (Atomics.load(m, STATE) === RUNNING && performance.now() < spinUntil) { /* spin */ }
+  while (Atomics.load(m, STATE) === RUNNING) Atomics.wait(m, STATE, RUNNING, 1000);
+}
+
+/** Reports (once) a kernel failure the helper flagged in its last job. */
+function throwIfHelperFailed(m: Int32Array): void {
+  if (Atomics.load(m, ERROR) === 0) return;
+  Atomics.store(m, ERROR, 0);
+  throw new Error('the helper thread failed to run a kernel');
 }
 
 /** Before posting a job: a load job still pending is cancelled (the next job loads), one running is waited for. */
 function settle(h: Helper): void {
   const m = h.mail;
   if (Atomics.compareExchange(m, STATE, PENDING, CANCELLED) === PENDING) return;
-  while (Atomics.load(m, STATE) === RUNNING) Atomics.wait(m, STATE, RUNNING, 1000);
+  awaitHelper(m, 0);
 }
 
 /**
@@ -344,10 +350,7 @@ export function preload(h: Helper, key: string, module: WasmModule, memory: Wasm
   offer(h, key, module, memory, names);
   const m = h.mail;
   m[MODE] = LOAD_MODE;
-  Atomics.store(m, STATE, PENDING);
-  h.seq++;
-  Atomics.store(m, SEQ, h.seq);
-  Atomics.notify(m, SEQ);
+  publish(h);
   const until = performance.now() + PRELOAD_WAIT_MS;
   for (let left = PRELOAD_WAIT_MS; Atomics.load(m, STATE) !== DONE && left > 0; left = until - performance.now()) {
     Atomics.wait(m, STATE, Atomics.load(m, STATE), left);
